@@ -1,0 +1,11 @@
+import { signUpBody } from "@/lib/schemas/account";
+import { withErrors } from "@/lib/server/access";
+import { signUp } from "@/lib/server/accounts";
+import { clientIp } from "@/lib/server/audit";
+import { parseBody } from "@/lib/server/errors";
+
+export const POST = withErrors(async (request) => {
+  const body = await parseBody(request, signUpBody);
+  const user = await signUp(body, clientIp(request));
+  return Response.json({ user }, { status: 201 });
+});

@@ -1,0 +1,88 @@
+import "server-only";
+import { UniqueConstraintError, ForeignKeyConstraintError, ConnectionError } from "sequelize";
+import { ZodError, type ZodType, type z } from "zod";
+
+// One error shape for every route: { error: { code, message, fields? } }.
+export type ErrorCode =
+  | "unauthenticated"
+  | "forbidden"
+  | "not_found"
+  | "invalid_json"
+  | "invalid_input"
+  | "conflict"
+  | "gone"
+  | "rate_limited"
+  | "unavailable"
+  | "internal";
+
+export class HttpError extends Error {
+  constructor(
+    readonly status: number,
+    readonly code: ErrorCode,
+    message: string,
+    readonly fields?: Record<string, string>,
+  ) {
+    super(message);
+  }
+}
+
+export const unauthenticated = () => new HttpError(401, "unauthenticated", "Sign in to continue.");
+export const forbidden = (message = "Your role in this lab does not allow this.") => new HttpError(403, "forbidden", message);
+export const notFound = (what = "That item") => new HttpError(404, "not_found", `${what} was not found.`);
+export const conflict = (message: string, fields?: Record<string, string>) => new HttpError(409, "conflict", message, fields);
+export const gone = (message: string) => new HttpError(410, "gone", message);
+
+export function fieldErrors(error: ZodError): Record<string, string> {
+  const fields: Record<string, string> = {};
+  for (const issue of error.issues) {
+    const key = issue.path.join(".") || "_";
+    fields[key] ??= issue.message;
+  }
+  return fields;
+}
+
+export function errorResponse(error: unknown): Response {
+  if (error instanceof HttpError) {
+    const body = { error: { code: error.code, message: error.message, ...(error.fields ? { fields: error.fields } : {}) } };
+    return Response.json(body, { status: error.status });
+  }
+  if (error instanceof ZodError) {
+    return errorResponse(new HttpError(400, "invalid_input", "Some fields are not valid.", fieldErrors(error)));
+  }
+  if (error instanceof UniqueConstraintError) {
+    return errorResponse(conflict("That already exists."));
+  }
+  if (error instanceof ForeignKeyConstraintError) {
+    return errorResponse(notFound("A referenced item"));
+  }
+  if (error instanceof ConnectionError) {
+    return Response.json(
+      { error: { code: "unavailable", message: "The database is not reachable right now; try again shortly." } },
+      { status: 503, headers: { "Retry-After": "2" } },
+    );
+  }
+  // Unknown errors are logged on the server only; the client gets a generic message.
+  console.error("[fluxframe] unexpected error:", error);
+  return Response.json({ error: { code: "internal", message: "Something went wrong on our side." } }, { status: 500 });
+}
+
+/** Reads a JSON body and validates it; bad JSON and invalid fields become 400s with the field messages. */
+export async function parseBody<S extends ZodType>(request: Request, schema: S): Promise<z.infer<S>> {
+  const text = await request.text();
+  let value: unknown;
+  try {
+    value = text.length ? JSON.parse(text) : undefined;
+  } catch {
+    throw new HttpError(400, "invalid_json", "The request body is not valid JSON.");
+  }
+  if (value === undefined) throw new HttpError(400, "invalid_json", "The request needs a JSON body.");
+  const result = schema.safeParse(value);
+  if (!result.success) throw new HttpError(400, "invalid_input", "Some fields are not valid.", fieldErrors(result.error));
+  return result.data;
+}
+
+export function parseWith<S extends ZodType>(schema: S, value: unknown, what = "The address"): z.infer<S> {
+  const result = schema.safeParse(value);
+  if (!result.success) throw new HttpError(400, "invalid_input", `${what} is not valid.`, fieldErrors(result.error));
+  return result.data;
+}

@@ -1,0 +1,25 @@
+import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
+
+export class PasswordReset extends Model<InferAttributes<PasswordReset>, InferCreationAttributes<PasswordReset>> {
+  declare id: CreationOptional<number>;
+  declare userId: number;
+  /** SHA-256 (hex) of the token in the e-mailed link. */
+  declare tokenHash: string;
+  declare expiresAt: Date;
+  declare usedAt: CreationOptional<Date | null>;
+  declare createdAt: CreationOptional<Date>;
+
+  static initModel(sequelize: Sequelize) {
+    PasswordReset.init(
+      {
+        id: { type: DataTypes.INTEGER.UNSIGNED, autoIncrement: true, primaryKey: true },
+        userId: { type: DataTypes.INTEGER.UNSIGNED, allowNull: false },
+        tokenHash: { type: DataTypes.CHAR(64), allowNull: false, unique: true },
+        expiresAt: { type: DataTypes.DATE, allowNull: false },
+        usedAt: { type: DataTypes.DATE, allowNull: true },
+        createdAt: DataTypes.DATE,
+      },
+      { sequelize, modelName: "PasswordReset", tableName: "password_resets", underscored: true, updatedAt: false },
+    );
+  }
+}

@@ -1,0 +1,64 @@
+// Starts `next start` (or `next dev`) in its own process group and waits until it answers, so that it
+// can be stopped as a group later (its process title changes to next-server; PLATFORM.md).
+import { spawn, type ChildProcess } from "node:child_process";
+import { join } from "node:path";
+import { root } from "./env";
+
+export interface AppServer {
+  url: string;
+  child: ChildProcess;
+  stop(): Promise<void>;
+}
+
+export async function startAppServer(options: {
+  port: number;
+  mode: "start" | "dev";
+  env?: Record<string, string>;
+  quiet?: boolean;
+}): Promise<AppServer> {
+  const url = `http://localhost:${options.port}`;
+  const child = spawn(join(root, "node_modules", ".bin", "next"), [options.mode, "-p", String(options.port)], {
+    cwd: root,
+    detached: true,
+    stdio: options.quiet ? ["ignore", "ignore", "inherit"] : "inherit",
+    env: {
+      ...process.env,
+      ...options.env,
+      // vitest sets NODE_ENV=test; next-auth then skips .env handling and fails with NO_SECRET.
+      NODE_ENV: options.mode === "dev" ? "development" : "production",
+      NEXT_TELEMETRY_DISABLED: "1",
+    },
+  });
+  const stop = async () => {
+    if (child.exitCode !== null || child.pid === undefined) return;
+    const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
+    try {
+      process.kill(-child.pid, "SIGTERM");
+    } catch {
+      return;
+    }
+    const timer = setTimeout(() => {
+      try {
+        process.kill(-child.pid!, "SIGKILL");
+      } catch {
+        /* already gone */
+      }
+    }, 5000);
+    await exited;
+    clearTimeout(timer);
+  };
+
+  const deadline = Date.now() + 120_000;
+  while (Date.now() < deadline) {
+    if (child.exitCode !== null) throw new Error(`next ${options.mode} exited with code ${child.exitCode}`);
+    try {
+      const response = await fetch(`${url}/api/health`);
+      if (response.ok) return { url, child, stop };
+    } catch {
+      /* not listening yet */
+    }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  await stop();
+  throw new Error(`The app did not answer on ${url} within 120 s`);
+}

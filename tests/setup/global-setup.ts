@@ -1,0 +1,21 @@
+// Runs once before the HTTP and browser tests: a fresh test database with migrations and the demo
+// seed, the fake SMTP server, a production build and `next start` on the test port.
+import { rmSync } from "node:fs";
+import { startAppServer } from "../../scripts/lib/app-server";
+import { buildIfNeeded } from "../../scripts/lib/build";
+import { setUpDatabase } from "../../scripts/lib/database";
+import { startFakeSmtp } from "../../scripts/lib/fake-smtp";
+import { testEnv } from "./test-env";
+
+export default async function setup() {
+  Object.assign(process.env, testEnv);
+  await setUpDatabase({ fresh: true, seed: true });
+  rmSync(testEnv.OUTBOX_DIR, { recursive: true, force: true });
+  const smtp = await startFakeSmtp(Number(testEnv.SMTP_PORT), testEnv.OUTBOX_DIR);
+  buildIfNeeded();
+  const app = await startAppServer({ port: Number(testEnv.APP_PORT), mode: "start", env: testEnv, quiet: true });
+  return async () => {
+    await app.stop();
+    await smtp.close();
+  };
+}
