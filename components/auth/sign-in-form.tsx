@@ -8,6 +8,7 @@ import { useForm } from "react-hook-form";
 import type { z } from "zod";
 import { Button } from "@/components/ui/button";
 import { FormError, TextField } from "@/components/ui/field";
+import { useHydrated } from "@/lib/client/use-hydrated";
 import { safeReturnPath, signInWithPassword } from "@/lib/client/sign-in";
 import { signInBody } from "@/lib/schemas/account";
 
@@ -16,6 +17,7 @@ type Output = z.output<typeof signInBody>;
 
 export function SignInForm({ returnTo, email }: { returnTo?: string; email?: string }) {
   const router = useRouter();
+  const hydrated = useHydrated();
   const [formError, setFormError] = useState<string | null>(null);
   const form = useForm<Input, unknown, Output>({ resolver: zodResolver(signInBody), defaultValues: { email: email ?? "", password: "" } });
   const { errors, isSubmitting } = form.formState;
@@ -32,7 +34,7 @@ export function SignInForm({ returnTo, email }: { returnTo?: string; email?: str
   });
 
   return (
-    <form onSubmit={onSubmit} noValidate className="space-y-4" data-hydrated="true">
+    <form onSubmit={onSubmit} noValidate className="space-y-4" data-ready={hydrated || undefined}>
       <FormError message={formError} />
       <TextField label="E-mail" type="email" autoComplete="email" error={errors.email?.message} {...form.register("email")} />
       <TextField label="Password" type="password" autoComplete="current-password" error={errors.password?.message} {...form.register("password")} />

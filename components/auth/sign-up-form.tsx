@@ -8,6 +8,7 @@ import type { z } from "zod";
 import { Button } from "@/components/ui/button";
 import { FormError, TextField } from "@/components/ui/field";
 import { api, ApiError } from "@/lib/client/api";
+import { useHydrated } from "@/lib/client/use-hydrated";
 import { safeReturnPath, signInWithPassword } from "@/lib/client/sign-in";
 import { signUpBody } from "@/lib/schemas/account";
 
@@ -16,6 +17,7 @@ type Output = z.output<typeof signUpBody>;
 
 export function SignUpForm({ returnTo, email }: { returnTo?: string; email?: string }) {
   const router = useRouter();
+  const hydrated = useHydrated();
   const [formError, setFormError] = useState<string | null>(null);
   const form = useForm<Input, unknown, Output>({
     resolver: zodResolver(signUpBody),
@@ -48,7 +50,7 @@ export function SignUpForm({ returnTo, email }: { returnTo?: string; email?: str
   });
 
   return (
-    <form onSubmit={onSubmit} noValidate className="space-y-4" data-hydrated="true">
+    <form onSubmit={onSubmit} noValidate className="space-y-4" data-ready={hydrated || undefined}>
       <FormError message={formError} />
       <TextField label="Your name" autoComplete="name" error={errors.name?.message} {...form.register("name")} />
       <TextField

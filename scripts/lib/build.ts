@@ -7,7 +7,7 @@ import { join, relative } from "node:path";
 import { root } from "./env";
 
 const inputs = ["app", "components", "lib", "models", "workers", "public"];
-const files = ["package-lock.json", "next.config.ts", "tailwind.config.ts", "postcss.config.mjs", "tsconfig.json", "proxy.ts"];
+const files = ["package-lock.json", "next.config.ts", "tailwind.config.ts", "postcss.config.mjs", "tsconfig.json", "tsconfig.app.json", "proxy.ts"];
 
 function sourceStamp(): string {
   const hash = createHash("sha256");
