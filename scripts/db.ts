@@ -24,11 +24,11 @@ async function main() {
       const instance = await startMariaDb(settings.port);
       await prepareDatabase(instance, settings);
       const { db, closeDb } = await import("../lib/server/db");
-      if (command === "migrate") {
-        const { migrateUp } = await import("../lib/server/migrate");
-        const applied = await migrateUp(db().sequelize);
-        console.log(applied.length ? `Applied: ${applied.join(", ")}` : "Schema is up to date.");
-      } else {
+      // Seeding needs the current schema, so both commands migrate first.
+      const { migrateUp } = await import("../lib/server/migrate");
+      const applied = await migrateUp(db().sequelize);
+      console.log(applied.length ? `Applied: ${applied.join(", ")}` : "Schema is up to date.");
+      if (command === "seed") {
         const { seedDemo } = await import("../lib/server/seed");
         await seedDemo();
         console.log("Demo lab seeded.");

@@ -27,7 +27,9 @@ ${DEMO_USERS.map((u) => `  ${u.role.padEnd(7)} ${u.email.padEnd(36)} password: $
 
 Ctrl-C stops the app. The database keeps running; stop it with: npm run db:stop
 `);
+  let stopping = false;
   const shutdown = async () => {
+    stopping = true;
     await app.stop();
     await smtp?.close();
     process.exit(0);
@@ -35,6 +37,7 @@ Ctrl-C stops the app. The database keeps running; stop it with: npm run db:stop
   process.on("SIGINT", shutdown);
   process.on("SIGTERM", shutdown);
   app.child.on("exit", (code) => {
+    if (stopping) return;
     console.error(`The app stopped (exit ${code}).`);
     void smtp?.close().then(() => process.exit(code ?? 1));
   });

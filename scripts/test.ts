@@ -15,12 +15,21 @@ interface Report {
   testResults: { name: string; status: string; message?: string; assertionResults: unknown[] }[];
 }
 
+function pythonHas(module: string): boolean {
+  return spawnSync("/usr/bin/python3", ["-c", `import ${module}`]).status === 0;
+}
+
 function main(): number {
-  const missing = [
-    ["chromium", "chromium"],
-    ["tiffcp", "libtiff-tools"],
-  ].filter(([exe]) => !findExecutable(exe));
-  if (missing.length) ensureDebianPackages(missing.map(([, pkg]) => pkg), "the browser and file-format tests");
+  // Independent tools the tests compare against: Chromium for the browser tests; libtiff's tiffcp and
+  // Debian's numpy + tifffile (run with /usr/bin/python3, not a pyenv one) for the TIFF checks.
+  const needed: [string, () => boolean][] = [
+    ["chromium", () => Boolean(findExecutable("chromium"))],
+    ["libtiff-tools", () => Boolean(findExecutable("tiffcp"))],
+    ["python3-numpy", () => pythonHas("numpy")],
+    ["python3-tifffile", () => pythonHas("tifffile")],
+  ];
+  const missing = needed.filter(([, present]) => !present()).map(([pkg]) => pkg);
+  if (missing.length) ensureDebianPackages(missing, "the browser and file-format tests");
 
   const reportFile = join(root, ".data", "test-report.json");
   mkdirSync(join(root, ".data"), { recursive: true });
