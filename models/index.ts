@@ -1,14 +1,19 @@
 import type { Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event";
+import { Dataset } from "./dataset";
+import { Job } from "./job";
+import { ChannelStat, Plane } from "./plane";
+import { Upload, UploadPart } from "./upload";
 import { Invitation } from "./invitation";
 import { Lab } from "./lab";
 import { Membership } from "./membership";
 import { PasswordReset } from "./password-reset";
 import { User } from "./user";
 
-export { AuditEvent, Invitation, Lab, Membership, PasswordReset, User };
+export type { ChannelInfo, DatasetStatus } from "./dataset";
+export { AuditEvent, ChannelStat, Dataset, Invitation, Job, Lab, Membership, PasswordReset, Plane, Upload, UploadPart, User };
 
-export const models = { User, Lab, Membership, Invitation, PasswordReset, AuditEvent };
+export const models = { User, Lab, Membership, Invitation, PasswordReset, AuditEvent, Dataset, Plane, ChannelStat, Upload, UploadPart, Job };
 export type Models = typeof models;
 
 /** Binds every model to one Sequelize instance and declares the associations. Call once per process. */
@@ -21,5 +26,8 @@ export function initModels(sequelize: Sequelize): Models {
   Invitation.belongsTo(Lab, { as: "lab", foreignKey: "labId" });
   Invitation.belongsTo(User, { as: "invitedBy", foreignKey: "invitedById" });
   AuditEvent.belongsTo(User, { as: "actor", foreignKey: "actorId" });
+  Dataset.belongsTo(User, { as: "uploadedBy", foreignKey: "uploadedById" });
+  Dataset.hasMany(Plane, { as: "planes", foreignKey: "datasetId" });
+  Dataset.hasMany(ChannelStat, { as: "channelStats", foreignKey: "datasetId" });
   return models;
 }

@@ -1,5 +1,5 @@
 // npm start: dependencies (bootstrap.mjs), MariaDB, migrations, demo seed, build, serve.
-import { startAppServer } from "./lib/app-server";
+import { startAppServer, startIngestWorker } from "./lib/app-server";
 import { buildIfNeeded } from "./lib/build";
 import { setUpDatabase } from "./lib/database";
 import { loadDotEnv, root } from "./lib/env";
@@ -18,6 +18,7 @@ async function main() {
   buildIfNeeded();
   const port = Number(process.env.APP_PORT || 3000);
   const app = await startAppServer({ port, mode: "start", quiet: true });
+  const worker = startIngestWorker();
   const { DEMO_LAB, DEMO_USERS } = await import("../lib/server/seed");
   console.log(`
 Fluxframe is running at ${app.url}
@@ -30,6 +31,7 @@ Ctrl-C stops the app. The database keeps running; stop it with: npm run db:stop
   let stopping = false;
   const shutdown = async () => {
     stopping = true;
+    await worker.stop();
     await app.stop();
     await smtp?.close();
     process.exit(0);

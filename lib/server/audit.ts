@@ -14,7 +14,13 @@ export type AuditAction =
   | "invitation.accepted"
   | "invitation.revoked"
   | "member.role_changed"
-  | "member.removed";
+  | "member.removed"
+  | "dataset.uploaded"
+  | "dataset.edited"
+  | "dataset.deleted"
+  | "dataset.restored"
+  | "dataset.purged"
+  | "dataset.verified";
 
 export interface AuditEntry {
   action: AuditAction;

@@ -1,6 +1,7 @@
 import "server-only";
 import { UniqueConstraintError, ForeignKeyConstraintError, ConnectionError } from "sequelize";
 import { ZodError, type ZodType, type z } from "zod";
+import { InvalidKeyError, ObjectExistsError, ObjectNotFoundError, RangeNotSatisfiableError } from "./storage/errors";
 
 // One error shape for every route: { error: { code, message, fields? } }.
 export type ErrorCode =
@@ -55,6 +56,10 @@ export function errorResponse(error: unknown): Response {
   if (error instanceof ForeignKeyConstraintError) {
     return errorResponse(notFound("A referenced item"));
   }
+  if (error instanceof ObjectNotFoundError) return errorResponse(notFound("The stored file"));
+  if (error instanceof ObjectExistsError) return errorResponse(conflict("That file is already stored."));
+  if (error instanceof RangeNotSatisfiableError) return errorResponse(new HttpError(416, "invalid_input", "That byte range is outside the file."));
+  if (error instanceof InvalidKeyError) return errorResponse(new HttpError(400, "invalid_input", "That storage key is not valid."));
   if (error instanceof ConnectionError) {
     return Response.json(
       { error: { code: "unavailable", message: "The database is not reachable right now; try again shortly." } },

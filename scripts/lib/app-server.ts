@@ -62,3 +62,33 @@ export async function startAppServer(options: {
   await stop();
   throw new Error(`The app did not answer on ${url} within 120 s`);
 }
+
+/** Starts an ingest worker process (scripts/ingest-worker.ts) in its own process group. */
+export function startIngestWorker(env: Record<string, string> = {}): { stop(): Promise<void> } {
+  const child = spawn(join(root, "node_modules", ".bin", "tsx"), ["--conditions=react-server", join(root, "scripts", "ingest-worker.ts")], {
+    cwd: root,
+    detached: true,
+    stdio: ["ignore", "ignore", "inherit"],
+    env: { ...process.env, ...env },
+  });
+  return {
+    stop: async () => {
+      if (child.exitCode !== null || child.pid === undefined) return;
+      const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
+      try {
+        process.kill(-child.pid, "SIGTERM");
+      } catch {
+        return;
+      }
+      const timer = setTimeout(() => {
+        try {
+          process.kill(-child.pid!, "SIGKILL");
+        } catch {
+          /* gone */
+        }
+      }, 5000);
+      await exited;
+      clearTimeout(timer);
+    },
+  };
+}

@@ -32,12 +32,12 @@ export class Client {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ");
   }
 
-  async raw(method: string, path: string, init: { body?: string; headers?: Record<string, string> } = {}): Promise<Reply> {
+  async raw(method: string, path: string, init: { body?: string | Uint8Array; headers?: Record<string, string> } = {}): Promise<Reply> {
     const response = await fetch(`${baseUrl}${path}`, {
       method,
       redirect: "manual",
       headers: { ...(this.cookies.size ? { cookie: this.cookieHeader() } : {}), ...init.headers },
-      body: init.body,
+      body: init.body as BodyInit | undefined,
     });
     this.remember(response.headers);
     const text = await response.text();
@@ -101,24 +101,43 @@ export interface LabWithMembers {
   outsider: Client;
 }
 
+/** Invites an address through the API and returns the invitation's id and the token from the mailed link. */
+export async function invite(owner: Client, labId: number, email: string, role: "owner" | "editor" | "viewer") {
+  const { linksInMail, newLinkInMail } = await import("./outbox");
+  const seen = linksInMail(email, "/invite/");
+  const invited = await owner.post(`/api/labs/${labId}/invitations`, { email, role });
+  if (invited.status !== 201) throw new Error(`invite failed: ${invited.status} ${JSON.stringify(invited.body)}`);
+  const link = await newLinkInMail(email, "/invite/", seen);
+  return { id: invited.body.invitation.id as number, token: link.split("/invite/")[1], link };
+}
+
+/** Signs up a fresh user and brings them into the lab through a real invitation and acceptance. */
+export async function addMember(owner: Client, labId: number, role: "owner" | "editor" | "viewer", prefix: string = role): Promise<Client> {
+  const member = await newUser(prefix);
+  const { token } = await invite(owner, labId, member.email, role);
+  const accepted = await member.post(`/api/invitations/${token}/accept`, {});
+  if (accepted.status !== 200) throw new Error(`accept failed: ${JSON.stringify(accepted.body)}`);
+  return member;
+}
+
 /** A fresh lab with one member per role (joined through real invitations) and a user of another lab. */
 export async function labWithMembers(): Promise<LabWithMembers> {
-  const { invitationLink } = await import("./outbox");
   const owner = await newUser("owner");
   const lab = await owner.post("/api/labs", { name: `Lab ${randomUUID().slice(0, 6)}` });
   const labId = lab.body.lab.id as number;
-  const join = async (role: "editor" | "viewer") => {
-    const member = await newUser(role);
-    const invited = await owner.post(`/api/labs/${labId}/invitations`, { email: member.email, role });
-    if (invited.status !== 201) throw new Error(`invite failed: ${JSON.stringify(invited.body)}`);
-    const token = (await invitationLink(member.email)).split("/invite/")[1];
-    const accepted = await member.post(`/api/invitations/${token}/accept`, {});
-    if (accepted.status !== 200) throw new Error(`accept failed: ${JSON.stringify(accepted.body)}`);
-    return member;
-  };
-  const editor = await join("editor");
-  const viewer = await join("viewer");
+  const editor = await addMember(owner, labId, "editor");
+  const viewer = await addMember(owner, labId, "viewer");
   const outsider = await newUser("outsider");
   await outsider.post("/api/labs", { name: "Somebody else's lab" });
   return { labId, owner, editor, viewer, outsider };
+}
+
+/** Asks for a password reset through the API and returns the token from the mailed link. */
+export async function resetToken(email: string): Promise<string> {
+  const { linksInMail, newLinkInMail } = await import("./outbox");
+  const seen = linksInMail(email, "/reset-password");
+  const asked = await anonymous().post("/api/account/password/forgot", { email });
+  if (asked.status !== 202) throw new Error(`forgot failed: ${asked.status} ${JSON.stringify(asked.body)}`);
+  const link = await newLinkInMail(email, "/reset-password", seen);
+  return new URL(link).searchParams.get("token")!;
 }

@@ -25,6 +25,8 @@ export const testEnv = {
   MAIL_FROM: "Fluxframe test <no-reply@fluxframe.test>",
   OUTBOX_DIR: resolve(root, ".data", `outbox-test${suffix}`),
   OUTBOX_OPEN: "1",
+  STORAGE_DRIVER: "local",
+  STORAGE_DIR: resolve(root, ".data", `blobs-test${suffix}`),
   // Cheap hashes keep the suite fast; production uses the .env value (10 by default).
   BCRYPT_ROUNDS: "4",
   ...(slot ? { NEXT_DIST_DIR: `.next-test${suffix}` } : {}),

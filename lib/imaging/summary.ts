@@ -1,0 +1,48 @@
+import type { Histogram } from "./histogram";
+import { statsFromHistogram } from "./histogram";
+import { percentiles, STANDARD_PERCENTILES } from "./percentile";
+
+export interface CompactHistogram {
+  /** Raw values per bin; bin i counts values i·binWidth … (i+1)·binWidth − 1. */
+  binWidth: number;
+  counts: number[];
+}
+
+export interface PlaneSummary {
+  count: number;
+  min: number;
+  max: number;
+  mean: number;
+  /** Population standard deviation. */
+  sd: number;
+  countAtZero: number;
+  countAtCeiling: number;
+  /** Percent (as a string key, e.g. "99.9") → raw value; exact type 7 from the integer histogram. */
+  percentiles: Record<string, number>;
+  histogram: CompactHistogram;
+}
+
+/** Sums an exact histogram into `bins` equal bins covering 0 … ceiling (for plots and the library). */
+export function compactHistogram(hist: Histogram, ceiling: number, bins = 256): CompactHistogram {
+  const binWidth = Math.max(1, Math.ceil((ceiling + 1) / bins));
+  const counts = new Array<number>(Math.ceil((ceiling + 1) / binWidth)).fill(0);
+  const last = Math.min(hist.length - 1, ceiling);
+  for (let v = 0; v <= last; v++) if (hist[v]) counts[Math.floor(v / binWidth)] += hist[v];
+  return { binWidth, counts };
+}
+
+export function summarise(hist: Histogram, ceiling: number): PlaneSummary {
+  const stats = statsFromHistogram(hist, ceiling);
+  const values = percentiles(hist, STANDARD_PERCENTILES, stats.count);
+  return {
+    count: stats.count,
+    min: stats.min,
+    max: stats.max,
+    mean: stats.mean,
+    sd: stats.sd,
+    countAtZero: stats.countAtZero,
+    countAtCeiling: stats.countAtCeiling ?? 0,
+    percentiles: Object.fromEntries(STANDARD_PERCENTILES.map((p, i) => [String(p), values[i]])),
+    histogram: compactHistogram(hist, ceiling),
+  };
+}
