@@ -1,12 +1,10 @@
-import { EmptyState, PageHeader } from "@/components/ui/states";
+import { LibraryPage } from "@/components/library/library-page";
+import { labPage } from "@/lib/server/pages";
 
 export const metadata = { title: "Datasets" };
 
-export default function Page() {
-  return (
-    <>
-      <PageHeader title="Datasets" description="Raw stacks uploaded by the lab, with their size, bit depth and check verdict." />
-      <EmptyState title="No datasets yet">Uploading and browsing stacks is not part of this version of Fluxframe yet. When it arrives, this page lists every stack the lab has uploaded.</EmptyState>
-    </>
-  );
+export default async function DatasetsPage({ params }: { params: Promise<{ labId: string }> }) {
+  const { labId } = await params;
+  const { lab, role } = await labPage(labId, "datasets.read");
+  return <LibraryPage labId={lab.id} role={role} />;
 }
