@@ -60,7 +60,8 @@ export function MetadataForm({ dataset }: { dataset: DatasetOut }) {
   });
   const channels = useFieldArray({ control: form.control, name: "channels" });
   const errors = form.formState.errors;
-  const editableDims = dataset.dimensionsFrom === "form" && dataset.status !== "queued" && dataset.status !== "ingesting";
+  // A file without OME-XML (or one that failed before its dimensions were settled) can be re-described.
+  const editableDims = dataset.dimensionsFrom !== "ome-xml" && dataset.status !== "queued" && dataset.status !== "ingesting";
 
   const onSubmit = form.handleSubmit(async (v) => {
     setSaved(false);
