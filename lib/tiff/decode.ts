@@ -18,6 +18,9 @@ export interface DecodeOptions {
 
 const HOST_LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
+/** Largest plane or block decoded, in pixels: 2^28 (16384 × 16384, 512 MiB at 16 bits). */
+export const MAX_PLANE_PIXELS = 2 ** 28;
+
 // Reads of blocks closer than this are merged into one read (one HTTP range instead of many).
 const MERGE_GAP = 4096;
 const MERGE_MAX = 16 * 1024 * 1024;
@@ -44,6 +47,13 @@ export async function decodePlane(source: ByteSource, ifdOffset: number, options
 export async function decodeIfd(source: ByteSource, header: TiffHeader, ifd: IfdInfo, signal?: AbortSignal): Promise<DecodedPlane> {
   if (!ifd.supported) throw new TiffFormatError(`The plane at byte ${ifd.offset} cannot be decoded: ${ifd.unsupportedReason}`);
   const { width, height, layout } = ifd;
+  // A few header bytes can claim 65535 × 65535 with unwritten (zero-length) strips: refuse before allocating.
+  const blockPixels = layout.kind === "tiles" ? layout.tileWidth * layout.tileLength : width * layout.rowsPerStrip;
+  if (width * height > MAX_PLANE_PIXELS || blockPixels > MAX_PLANE_PIXELS) {
+    throw new TiffFormatError(
+      `The plane at byte ${ifd.offset} is ${width} × ${height} pixels${layout.kind === "tiles" ? ` in ${layout.tileWidth} × ${layout.tileLength} tiles` : ""}; planes and blocks above ${MAX_PLANE_PIXELS} pixels are not decoded`,
+    );
+  }
   const bits = ifd.bitsPerSample[0];
   const float = ifd.sampleFormat[0] === 3;
   const bytesPerValue = bits / 8;

@@ -221,7 +221,13 @@ export function parseOmeXml(text: string): OmeMetadata {
   if (valid !== true) {
     throw new OmeXmlError(`The OME-XML is not well-formed: ${valid.err.msg} (line ${valid.err.line})`);
   }
-  const doc = parser.parse(trimmed) as Attrs;
+  let doc: Attrs;
+  try {
+    doc = parser.parse(trimmed) as Attrs;
+  } catch (e) {
+    // The validator passes some text the parser then rejects (e.g. an unclosed <?xml declaration).
+    throw new OmeXmlError(`The OME-XML is not well-formed: ${e instanceof Error ? e.message : String(e)}`);
+  }
   const ome = doc.OME as Attrs | undefined;
   if (!ome || typeof ome !== "object") throw new OmeXmlError("The image description is not OME-XML: its root element is not <OME>");
   const images = (ome.Image as Attrs[] | undefined) ?? [];

@@ -201,7 +201,8 @@ async function readEntries(r: TiffReader, offset: number, what: string): Promise
 
 async function readNumbers(r: TiffReader, e: RawEntry, what: string): Promise<number[]> {
   const size = TYPE_SIZE[e.type];
-  if (size === undefined || e.type === 2 || e.type === 5 || e.type === 10) {
+  // Floats (11, 12) too: a width of 2.5 or NaN would pass every later check.
+  if (size === undefined || e.type === 2 || e.type === 5 || e.type === 10 || e.type === 11 || e.type === 12) {
     throw new TiffFormatError(`${what} has field type ${e.type}, which is not a whole number`);
   }
   const v = e.inline ?? (await r.view(e.valueOffset, size * e.count, what));
@@ -219,13 +220,20 @@ async function readNumbers(r: TiffReader, e: RawEntry, what: string): Promise<nu
       case 11: out[i] = v.getFloat32(at, le); break;
       case 12: out[i] = v.getFloat64(at, le); break;
       case 16: case 18: out[i] = r.uint64(v, at, what); break;
-      case 17: out[i] = Number(v.getBigInt64(at, le)); break;
+      case 17: {
+        const n = v.getBigInt64(at, le);
+        if (n > BigInt(Number.MAX_SAFE_INTEGER) || n < -BigInt(Number.MAX_SAFE_INTEGER)) throw new TiffFormatError(`${what} is ${n}, too large to use`);
+        out[i] = Number(n);
+        break;
+      }
     }
   }
   return out;
 }
 
 async function readText(r: TiffReader, e: RawEntry, what: string): Promise<string> {
+  // An unknown field type has no value offset (and its count was never checked against the file).
+  if (TYPE_SIZE[e.type] === undefined) throw new TiffFormatError(`${what} has field type ${e.type}, which is not text`);
   const v = e.inline ?? (await r.view(e.valueOffset, e.count, what));
   const bytes = new Uint8Array(v.buffer, v.byteOffset, e.count);
   // TIFF says 7-bit ASCII, but OME-XML is written as UTF-8 (µm), so decode as UTF-8.
@@ -339,6 +347,10 @@ function checkBlocks(what: string, kind: string, offsets: number[], byteCounts: 
     throw new TiffFormatError(`${what} lists ${offsets.length} ${kind} offsets but ${byteCounts.length} ${kind} byte counts`);
   }
   for (let i = 0; i < offsets.length; i++) {
+    // Signed field types can hold negative positions, which no read may be asked for.
+    if (offsets[i] < 0 || byteCounts[i] < 0) {
+      throw new TiffFormatError(`${kind[0].toUpperCase()}${kind.slice(1)} ${i} of ${what} has offset ${offsets[i]} and byte count ${byteCounts[i]}; neither may be negative`);
+    }
     if (offsets[i] + byteCounts[i] > fileSize) {
       throw new TiffFormatError(
         `${kind[0].toUpperCase()}${kind.slice(1)} ${i} of ${what} ends at byte ${offsets[i] + byteCounts[i]}, past the end of the ${fileSize}-byte file (is the file truncated?)`,
