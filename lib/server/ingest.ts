@@ -1,4 +1,5 @@
 import "server-only";
+import { inflateSync } from "node:zlib";
 import { PNG } from "pngjs";
 import { ceilingFor } from "@/lib/imaging/ceiling";
 import { histogram16, mergeHistograms, statsFromHistogram, type Histogram } from "@/lib/imaging/histogram";
@@ -72,6 +73,9 @@ function checkPlanes(planes: IfdInfo[], fileSize: number): void {
     if (needed > fileSize) throw new IngestError(`${planes.length} uncompressed planes of ${first.width}×${first.height} need ${needed} bytes, but the file has ${fileSize}.`);
   }
 }
+
+// Node's native zlib inflates Deflate blocks several times faster than a JavaScript inflate.
+const nativeInflate = (block: Uint8Array) => inflateSync(block);
 
 // Until the whole stack is read the ceiling may be unknown (no SignificantBits): keep what each
 // candidate ceiling needs, and pick once the maximum is known.
@@ -162,7 +166,7 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
     const { c, z, t } = planeIndex(dims.order, { sizeC: dims.sizeC, sizeZ: dims.sizeZ, sizeT: dims.sizeT }, i);
     let decoded;
     try {
-      decoded = await decodeIfd(raw, structure, ifd, options.signal);
+      decoded = await decodeIfd(raw, structure, ifd, options.signal, nativeInflate);
     } catch (error) {
       if (error instanceof TiffFormatError) throw new IngestError(`Plane ${i + 1}: ${error.message}`);
       throw error;
