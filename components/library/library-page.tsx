@@ -12,7 +12,7 @@ import type { DatasetOut } from "@/lib/schemas/dataset";
 import { UploadPanel } from "./upload-panel";
 
 export function StatusCell({ d }: { d: DatasetOut }) {
-  if (d.status === "ready") return <span className="text-ok-700">✓ Ready</span>;
+  if (d.status === "ready") return <span className="whitespace-nowrap text-ok-700">✓ Ready</span>;
   if (d.status === "failed")
     return (
       <span className="text-fault-700" title={d.failureReason ?? undefined}>
@@ -60,9 +60,9 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
         cell: ({ row }) =>
           row.original.hasThumbnail ? (
             // eslint-disable-next-line @next/next/no-img-element -- a private, access-checked API image; next/image would proxy it
-            <img src={`/api/datasets/${row.original.id}/thumbnail`} alt="" width={48} height={48} className="h-12 w-12 rounded-sm bg-graphite-950 object-contain" />
+            <img src={`/api/datasets/${row.original.id}/thumbnail`} alt="" width={48} height={48} className="block h-12 w-12 min-w-12 rounded-sm bg-graphite-950 object-contain" />
           ) : (
-            <span className="block h-12 w-12 rounded-sm bg-paper-200" />
+            <span className="block h-12 w-12 min-w-12 rounded-sm bg-paper-200" />
           ),
       },
       {
@@ -78,13 +78,13 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
           </span>
         ),
       },
-      { id: "czt", header: "C×Z×T", enableSorting: false, cell: ({ row }) => <span className="num block text-right">{dims(row.original)}</span> },
-      { id: "wh", header: "W×H", enableSorting: false, cell: ({ row }) => <span className="num block text-right">{row.original.width ? `${row.original.width}×${row.original.height}` : "—"}</span> },
-      { id: "bits", header: "Bits", enableSorting: false, cell: ({ row }) => <span className="num block text-right">{row.original.ceiling ? `${Math.log2(row.original.ceiling + 1)} in ${row.original.bitsPerSample}` : (row.original.bitsPerSample ?? "—")}</span> },
-      { accessorKey: "sizeBytes", header: "Size", cell: ({ row }) => <span className="num block text-right">{formatBytes(row.original.sizeBytes)}</span> },
+      { id: "czt", header: "C×Z×T", enableSorting: false, cell: ({ row }) => <span className="num block whitespace-nowrap text-right">{dims(row.original)}</span> },
+      { id: "wh", header: "W×H", enableSorting: false, cell: ({ row }) => <span className="num block whitespace-nowrap text-right">{row.original.width ? `${row.original.width}×${row.original.height}` : "—"}</span> },
+      { id: "bits", header: "Bits", enableSorting: false, cell: ({ row }) => <span className="num block whitespace-nowrap text-right">{row.original.ceiling ? `${Math.log2(row.original.ceiling + 1)} in ${row.original.bitsPerSample}` : (row.original.bitsPerSample ?? "—")}</span> },
+      { accessorKey: "sizeBytes", header: "Size", cell: ({ row }) => <span className="num block whitespace-nowrap text-right">{formatBytes(row.original.sizeBytes)}</span> },
       { accessorKey: "status", header: "Status", cell: ({ row }) => <StatusCell d={row.original} /> },
       { id: "uploadedBy", header: "Uploaded by", enableSorting: false, cell: ({ row }) => row.original.uploadedBy ?? "—" },
-      { accessorKey: "createdAt", header: "Date", cell: ({ row }) => <span className="num">{row.original.createdAt.slice(0, 10)}</span> },
+      { accessorKey: "createdAt", header: "Date", cell: ({ row }) => <span className="num whitespace-nowrap">{row.original.createdAt.slice(0, 10)}</span> },
     ],
     [labId],
   );

@@ -3,7 +3,7 @@
 import { dbSettings } from "./env";
 import { prepareDatabase, startMariaDb } from "./mariadb";
 
-export async function setUpDatabase(options: { fresh?: boolean; seed?: boolean } = {}): Promise<void> {
+export async function setUpDatabase(options: { fresh?: boolean; seed?: boolean; demoDatasets?: boolean } = {}): Promise<void> {
   const settings = dbSettings();
   const instance = await startMariaDb(settings.port);
   await prepareDatabase(instance, settings, { fresh: options.fresh });
@@ -14,7 +14,8 @@ export async function setUpDatabase(options: { fresh?: boolean; seed?: boolean }
   console.log(applied.length ? `» Applied migrations: ${applied.join(", ")}` : "» Database schema is up to date");
   if (options.seed !== false) {
     const { seedDemo } = await import("../../lib/server/seed");
-    await seedDemo();
+    if (options.demoDatasets !== false) console.log("» Demo lab: writing invented demo stacks (first run only, ~30 s)…");
+    await seedDemo({ datasets: options.demoDatasets });
     console.log("» Demo lab is in place");
   }
   await closeDb();

@@ -9,7 +9,8 @@ import { testEnv } from "./test-env";
 
 export default async function setup() {
   Object.assign(process.env, testEnv);
-  await setUpDatabase({ fresh: true, seed: true });
+  // Demo people yes, demo stacks no: tests upload their own files, and 300 MB of demo data would only slow them.
+  await setUpDatabase({ fresh: true, seed: true, demoDatasets: false });
   rmSync(testEnv.OUTBOX_DIR, { recursive: true, force: true });
   rmSync(testEnv.STORAGE_DIR, { recursive: true, force: true });
   const smtp = await startFakeSmtp(Number(testEnv.SMTP_PORT), testEnv.OUTBOX_DIR);
