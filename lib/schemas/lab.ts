@@ -7,8 +7,13 @@ export const labName = z.string().trim().min(2, "Use at least 2 characters.").ma
 export const createLabBody = z.object({ name: labName });
 export const renameLabBody = z.object({ name: labName });
 
-/** Route ids are positive integers; anything else is a 404, not a 500. */
-export const idParam = z.coerce.number().int().positive().max(2 ** 32 - 1);
+/**
+ * Route ids are positive integers written plainly ("12", not "0x0c", "12.0" or " 12"); anything else
+ * is a 404, not a 500. Numbers are accepted as they are (ids taken from rows).
+ */
+export const idParam = z
+  .union([z.number(), z.string().regex(/^[1-9][0-9]{0,9}$/).transform(Number)])
+  .pipe(z.number().int().positive().max(2 ** 32 - 1));
 
 export const role = z.enum(roles, { message: "Choose owner, editor or viewer." });
 

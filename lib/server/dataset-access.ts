@@ -6,7 +6,7 @@ import type { Dataset } from "@/models";
 import { requireLabAccess, requireUser, type LabAccess } from "./access";
 import { findDataset } from "./datasets";
 import { db } from "./db";
-import { errorResponse, notFound } from "./errors";
+import { errorResponse, HttpError, notFound } from "./errors";
 
 type Params = Record<string, string | string[] | undefined>;
 
@@ -26,8 +26,10 @@ export function withDataset(
       if (!id.success) throw notFound("That dataset");
       const row = await db().Dataset.findByPk(id.data, { attributes: ["id", "labId"] });
       if (!row) throw notFound("That dataset");
-      // A non-member gets the lab check's 404, so a dataset's existence does not leak.
-      const access = await requireLabAccess(row.labId, options.need);
+      // A non-member gets the same 404 as for an id that does not exist, so existence does not leak.
+      const access = await requireLabAccess(row.labId, options.need).catch((error: unknown) => {
+        throw error instanceof HttpError && error.status === 404 ? notFound("That dataset") : error;
+      });
       const dataset = await findDataset(row.labId, row.id, { deleted: options.includeDeleted });
       return await handler(request, { ...access, dataset, params });
     } catch (error) {

@@ -77,6 +77,17 @@ export async function listMembers(labId: number): Promise<MemberOut[]> {
   }));
 }
 
+/**
+ * Takes the lab row's lock before any membership row, so membership changes of one lab run one after
+ * another; without it two owners stepping down at once lock each other's rows in opposite order and
+ * one of them ends in a deadlock (a 500) instead of the 409 below.
+ */
+async function lockLab(labId: number, transaction: Transaction): Promise<void> {
+  const { Lab } = db();
+  const lab = await Lab.findByPk(labId, { transaction, lock: transaction.LOCK.UPDATE });
+  if (!lab) throw notFound("That lab");
+}
+
 /** Locks the lab's owner rows and fails when the change would leave the lab without an owner. */
 async function keepAnOwner(labId: number, leavingUserId: number, transaction: Transaction): Promise<void> {
   const { Membership } = db();
@@ -89,6 +100,7 @@ async function keepAnOwner(labId: number, leavingUserId: number, transaction: Tr
 export async function changeRole(actor: Actor, labId: number, userId: number, role: Role, ip: string | null): Promise<MemberOut> {
   const { Membership, sequelize } = db();
   await sequelize.transaction(async (transaction) => {
+    await lockLab(labId, transaction);
     const member = await Membership.findOne({ where: { labId, userId }, transaction, lock: transaction.LOCK.UPDATE });
     if (!member) throw notFound("That member");
     if (member.role === role) return;
@@ -105,6 +117,7 @@ export async function changeRole(actor: Actor, labId: number, userId: number, ro
 export async function removeMember(actor: Actor, labId: number, userId: number, ip: string | null): Promise<void> {
   const { Membership, sequelize } = db();
   await sequelize.transaction(async (transaction) => {
+    await lockLab(labId, transaction);
     const member = await Membership.findOne({ where: { labId, userId }, transaction, lock: transaction.LOCK.UPDATE });
     if (!member) throw notFound("That member");
     if (member.role === "owner") await keepAnOwner(labId, userId, transaction);
@@ -153,10 +166,16 @@ export async function createInvitation(
       throw conflict(`${body.email} is already a member of this lab.`, { email: "Already a member." });
     }
     // A new invitation replaces any pending one for the same address, so only the newest link works.
-    await Invitation.update(
-      { revokedAt: new Date() },
-      { where: { labId: lab.id, email: body.email, acceptedAt: null, revokedAt: null }, transaction },
-    );
+    // Found with a plain read and revoked by primary key: an UPDATE over the (lab, e-mail) range takes
+    // gap locks that deadlock with invitations being created in other labs at the same time (a 500).
+    const pending = await Invitation.findAll({
+      attributes: ["id"],
+      where: { labId: lab.id, email: body.email, acceptedAt: null, revokedAt: null },
+      transaction,
+    });
+    if (pending.length) {
+      await Invitation.update({ revokedAt: new Date() }, { where: { id: pending.map((p) => p.id) }, transaction });
+    }
     const created = await Invitation.create(
       {
         labId: lab.id,

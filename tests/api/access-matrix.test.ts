@@ -1,0 +1,199 @@
+// The access rules of every route handler, as one table: route × actor → status. The list of routes
+// is read from the app/api folder, so a new handler fails this file until it has a row.
+import { readdirSync, readFileSync } from "node:fs";
+import { join, relative, sep } from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { closeDb } from "@/lib/server/db";
+import { labSnapshot } from "../helpers/db";
+import { expectErrorShape } from "../helpers/errors";
+import { writeTiff } from "@/lib/tiff/writer";
+import { addMember, anonymous, Client, invite, labWithMembers, newUser, resetToken, uniqueEmail, type LabWithMembers } from "../helpers/http";
+import { putPart, sha256, startUpload, uploadFile, waitForIngest } from "../helpers/uploads";
+
+const actors = ["anonymous", "viewer", "editor", "owner", "outsider"] as const;
+type Actor = (typeof actors)[number];
+
+interface Ctx {
+  lab: LabWithMembers;
+  who: Actor;
+  client: Client;
+  /** A second lab with its own owner, for invitations that any signed-in person may accept. */
+  host: { owner: Client; labId: number };
+  /** A pending invitation of the lab, whose link anyone may preview. */
+  previewToken: string;
+  /** An ingested dataset of the lab, for the read-only dataset routes. */
+  datasetId: number;
+}
+/** `raw` sends bytes instead of JSON (upload parts). */
+type Target = (ctx: Ctx) => Promise<{ path: string; body?: unknown; raw?: Uint8Array }>;
+type Statuses = [anonymous: number, viewer: number, editor: number, owner: number, outsider: number];
+
+const L = (ctx: Ctx) => `/api/labs/${ctx.lab.labId}`;
+const freshMember = async (ctx: Ctx) => (await addMember(ctx.lab.owner, ctx.lab.labId, "viewer", "target")).id;
+
+// A small two-plane 16-bit TIFF written by our own writer (its correctness is checked in tests/tiff/writer.test.ts).
+let tiff: Uint8Array;
+const D = (id: number) => `/api/datasets/${id}`;
+const freshDataset = async (ctx: Ctx) => (await uploadFile(ctx.lab.editor, ctx.lab.labId, tiff, { fileName: "matrix.tif", dimensions: { sizeC: 1, sizeZ: 1, sizeT: 2, order: "XYCZT" } })).body.datasetId as number;
+const binnedDataset = async (ctx: Ctx) => {
+  const id = await freshDataset(ctx);
+  await ctx.lab.editor.delete(D(id));
+  return id;
+};
+// Uploads belong to the person who started them: actors who may upload act on their own, the others
+// on the editor's (which they must not reach either way).
+const uploader = (ctx: Ctx) => (ctx.who === "editor" || ctx.who === "owner" ? ctx.client : ctx.lab.editor);
+const freshUpload = async (ctx: Ctx) => startUpload(uploader(ctx), ctx.lab.labId, tiff, { fileName: "matrix.tif", partSize: 1024, dimensions: { sizeC: 1, sizeZ: 1, sizeT: 2, order: "XYCZT" } });
+const U = (ctx: Ctx, id: string) => `${L(ctx)}/uploads/${id}`;
+
+// Public routes answer the same to everyone. Lab routes: anonymous 401, a member whose role lacks the
+// action 403, a member of another lab 404 (as if the lab did not exist). Mutating cells get fresh
+// targets so no cell depends on another one's outcome.
+//                                                                    anon viewer editor owner outsider
+const table: [method: string, route: string, statuses: Statuses, target: Target][] = [
+  ["GET",    "/api/health",                                         [200, 200, 200, 200, 200], async () => ({ path: "/api/health" })],
+  // The test environment sets OUTBOX_OPEN=1 so the browser tests can read mail; production keeps it closed.
+  ["GET",    "/api/dev/outbox",                                     [200, 200, 200, 200, 200], async () => ({ path: "/api/dev/outbox" })],
+  ["POST",   "/api/account/signup",                                 [201, 201, 201, 201, 201],
+    async () => ({ path: "/api/account/signup", body: { name: "Matrix Person", email: uniqueEmail("matrix"), password: "a-long-enough-password" } })],
+  ["POST",   "/api/account/password/forgot",                        [202, 202, 202, 202, 202],
+    async () => ({ path: "/api/account/password/forgot", body: { email: uniqueEmail("nobody") } })],
+  ["POST",   "/api/account/password/reset",                         [200, 200, 200, 200, 200],
+    async () => {
+      const person = await newUser("resetter");
+      return { path: "/api/account/password/reset", body: { token: await resetToken(person.email), password: "a-brand-new-password" } };
+    }],
+  ["GET",    "/api/me",                                             [401, 200, 200, 200, 200], async () => ({ path: "/api/me" })],
+  ["GET",    "/api/labs",                                           [401, 200, 200, 200, 200], async () => ({ path: "/api/labs" })],
+  ["POST",   "/api/labs",                                           [401, 201, 201, 201, 201], async () => ({ path: "/api/labs", body: { name: "Matrix lab" } })],
+  ["GET",    "/api/invitations/[token]",                            [200, 200, 200, 200, 200], async (c) => ({ path: `/api/invitations/${c.previewToken}` })],
+  ["POST",   "/api/invitations/[token]/accept",                     [401, 200, 200, 200, 200],
+    async (c) => {
+      const email = c.who === "anonymous" ? uniqueEmail("nobody") : c.client.email;
+      const { token } = await invite(c.host.owner, c.host.labId, email, "viewer");
+      return { path: `/api/invitations/${token}/accept`, body: {} };
+    }],
+  ["GET",    "/api/labs/[labId]",                                   [401, 200, 200, 200, 404], async (c) => ({ path: L(c) })],
+  ["PATCH",  "/api/labs/[labId]",                                   [401, 403, 403, 200, 404], async (c) => ({ path: L(c), body: { name: `Renamed by ${c.who}` } })],
+  ["GET",    "/api/labs/[labId]/audit",                             [401, 403, 403, 200, 404], async (c) => ({ path: `${L(c)}/audit` })],
+  ["GET",    "/api/labs/[labId]/members",                           [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/members` })],
+  ["PATCH",  "/api/labs/[labId]/members/[userId]",                  [401, 403, 403, 200, 404],
+    async (c) => ({ path: `${L(c)}/members/${await freshMember(c)}`, body: { role: "editor" } })],
+  ["DELETE", "/api/labs/[labId]/members/[userId]",                  [401, 403, 403, 204, 404], async (c) => ({ path: `${L(c)}/members/${await freshMember(c)}` })],
+  ["GET",    "/api/labs/[labId]/invitations",                       [401, 403, 403, 200, 404], async (c) => ({ path: `${L(c)}/invitations` })],
+  ["POST",   "/api/labs/[labId]/invitations",                       [401, 403, 403, 201, 404],
+    async (c) => ({ path: `${L(c)}/invitations`, body: { email: uniqueEmail("invitee"), role: "viewer" } })],
+  ["DELETE", "/api/labs/[labId]/invitations/[invitationId]",        [401, 403, 403, 204, 404],
+    async (c) => ({ path: `${L(c)}/invitations/${(await invite(c.lab.owner, c.lab.labId, uniqueEmail("invitee"), "viewer")).id}` })],
+  ["GET",    "/api/labs/[labId]/datasets",                          [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/datasets` })],
+  ["POST",   "/api/labs/[labId]/uploads",                           [401, 403, 201, 201, 404],
+    async (c) => ({ path: `${L(c)}/uploads`, body: { fileName: "matrix.tif", sizeBytes: tiff.length } })],
+  ["GET",    "/api/labs/[labId]/uploads/[uploadId]",                [401, 403, 200, 200, 404], async (c) => ({ path: U(c, (await freshUpload(c)).id) })],
+  ["DELETE", "/api/labs/[labId]/uploads/[uploadId]",                [401, 403, 204, 204, 404], async (c) => ({ path: U(c, (await freshUpload(c)).id) })],
+  ["PUT",    "/api/labs/[labId]/uploads/[uploadId]/parts/[partNumber]", [401, 403, 200, 200, 404],
+    async (c) => ({ path: `${U(c, (await freshUpload(c)).id)}/parts/1`, raw: tiff.subarray(0, 1024) })],
+  ["POST",   "/api/labs/[labId]/uploads/[uploadId]/complete",       [401, 403, 201, 201, 404],
+    async (c) => {
+      const upload = await freshUpload(c);
+      for (let n = 1; n <= upload.partCount; n++) await putPart(uploader(c), c.lab.labId, upload.id, n, tiff.subarray((n - 1) * 1024, n * 1024));
+      return { path: `${U(c, upload.id)}/complete`, body: { sha256: sha256(tiff) } };
+    }],
+  ["GET",    "/api/datasets/[datasetId]",                           [401, 200, 200, 200, 404], async (c) => ({ path: D(c.datasetId) })],
+  ["PATCH",  "/api/datasets/[datasetId]",                           [401, 403, 200, 200, 404], async (c) => ({ path: D(c.datasetId), body: { notes: `Edited by ${c.who}` } })],
+  ["DELETE", "/api/datasets/[datasetId]",                           [401, 403, 200, 200, 404], async (c) => ({ path: D(await freshDataset(c)) })],
+  ["POST",   "/api/datasets/[datasetId]/restore",                   [401, 403, 200, 200, 404], async (c) => ({ path: `${D(await binnedDataset(c))}/restore`, body: {} })],
+  ["GET",    "/api/datasets/[datasetId]/file",                      [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/file` })],
+  ["GET",    "/api/datasets/[datasetId]/planes",                    [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/planes` })],
+  ["GET",    "/api/datasets/[datasetId]/thumbnail",                 [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/thumbnail` })],
+  ["POST",   "/api/datasets/[datasetId]/verify",                    [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/verify`, body: {} })],
+];
+
+/** Every "METHOD /api/…" that a route.ts under app/api exports, except next-auth's own handler. */
+function routeHandlers(): string[] {
+  const apiDir = join(import.meta.dirname, "..", "..", "app", "api");
+  const found: string[] = [];
+  const walk = (dir: string) => {
+    for (const entry of readdirSync(dir, { withFileTypes: true })) {
+      const path = join(dir, entry.name);
+      if (entry.isDirectory()) walk(path);
+      else if (/^route\.(ts|tsx|js)$/.test(entry.name)) {
+        const route = "/api/" + relative(apiDir, dir).split(sep).join("/");
+        if (route.includes("[...nextauth]")) continue;
+        const source = readFileSync(path, "utf8");
+        const methods = new Set<string>();
+        for (const m of source.matchAll(/export\s+(?:const|async\s+function|function)\s+(GET|HEAD|POST|PUT|PATCH|DELETE|OPTIONS)\b/g)) methods.add(m[1]);
+        for (const m of source.matchAll(/export\s*\{([^}]*)\}/g)) {
+          for (const name of m[1].matchAll(/\bas\s+(GET|HEAD|POST|PUT|PATCH|DELETE|OPTIONS)\b/g)) methods.add(name[1]);
+        }
+        if (methods.size === 0) throw new Error(`${path} exports no HTTP method this test recognises`);
+        for (const method of methods) found.push(`${method} ${route.replace(/\/$/, "")}`);
+      }
+    }
+  };
+  walk(apiDir);
+  return found.sort();
+}
+
+describe("access matrix", () => {
+  let lab: LabWithMembers;
+  let host: Ctx["host"];
+  let previewToken: string;
+  let datasetId: number;
+  const clients = {} as Record<Actor, Client>;
+
+  beforeAll(async () => {
+    lab = await labWithMembers();
+    Object.assign(clients, { anonymous: anonymous(), viewer: lab.viewer, editor: lab.editor, owner: lab.owner, outsider: lab.outsider });
+    const hostOwner = await newUser("host");
+    host = { owner: hostOwner, labId: (await hostOwner.post("/api/labs", { name: "Host lab" })).body.lab.id };
+    previewToken = (await invite(lab.owner, lab.labId, uniqueEmail("preview"), "viewer")).token;
+    const plane = (k: number) => Uint16Array.from({ length: 32 * 24 }, (_, i) => (i * 7 + k * 13) % 4096);
+    tiff = await writeTiff([plane(0), plane(1)], { width: 32, height: 24, bitsPerSample: 16 });
+    datasetId = (await uploadFile(lab.editor, lab.labId, tiff, { fileName: "matrix.tif", dimensions: { sizeC: 1, sizeZ: 1, sizeT: 2, order: "XYCZT" } })).body.datasetId;
+    expect((await waitForIngest(lab.editor, datasetId)).dataset.status).toBe("ready");
+  });
+  afterAll(closeDb);
+
+  it("has exactly one row for every route handler under app/api", () => {
+    const rows = table.map(([method, route]) => `${method} ${route}`).sort();
+    expect(new Set(rows).size, "duplicate rows in the table").toBe(rows.length);
+    expect(rows).toEqual(routeHandlers());
+  });
+
+  const cells = table.flatMap(([method, route, statuses, target]) =>
+    actors.map((who, i) => ({ method, route, who, status: statuses[i], target })),
+  );
+
+  it.each(cells)("$method $route as $who → $status", async ({ method, route, who, status, target }) => {
+    const client = clients[who];
+    const { path, body, raw } = await target({ lab, who, client, host, previewToken, datasetId });
+    // Routes that change the lab itself, its members or invitations: their effect shows in the snapshot.
+    const labScoped = /^\/api\/labs\/\[labId\](\/members|\/invitations|$)/.test(route);
+    const before = labScoped ? await labSnapshot(lab.labId) : null;
+    const reply = raw
+      ? await client.raw(method, path, { body: raw, headers: { "content-type": "application/octet-stream" } })
+      : await client.request(method, path, body);
+    expect(reply.status, JSON.stringify(reply.body)).toBe(status);
+    if (status >= 400) expectErrorShape(reply.body);
+    if (labScoped && method !== "GET") {
+      const after = await labSnapshot(lab.labId);
+      // A refused change leaves the lab as it was; an allowed one really changed it.
+      if (status >= 400) expect(after).toBe(before);
+      else expect(after).not.toBe(before);
+    }
+  });
+
+  const labRows = table.filter(([, route]) => route.startsWith("/api/labs/[labId]") || route.startsWith("/api/datasets/[datasetId]"));
+  it.each(labRows.map(([method, route, , target]) => ({ method, route, target })))(
+    "$method $route answers a member of another lab exactly as if the lab or dataset did not exist",
+    async ({ method, target }) => {
+      const { path, body, raw } = await target({ lab, who: "outsider", client: lab.outsider, host, previewToken, datasetId });
+      const send = (p: string) =>
+        raw ? lab.outsider.raw(method, p, { body: raw, headers: { "content-type": "application/octet-stream" } }) : lab.outsider.request(method, p, body);
+      const existing = await send(path);
+      const missing = await send(path.replace(`/api/labs/${lab.labId}`, "/api/labs/4294967295").replace(/\/api\/datasets\/\d+/, "/api/datasets/4294967295"));
+      expect(existing.status).toBe(404);
+      expect({ status: missing.status, body: missing.body }).toEqual({ status: existing.status, body: existing.body });
+    },
+  );
+});
