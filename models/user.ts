@@ -7,6 +7,8 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare name: string;
   declare passwordHash: string;
   declare isSiteAdmin: CreationOptional<boolean>;
+  /** Sessions signed in before this moment are refused (set by a password reset). */
+  declare sessionsValidAfter: CreationOptional<Date | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -18,6 +20,7 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
         name: { type: DataTypes.STRING(120), allowNull: false },
         passwordHash: { type: DataTypes.STRING(100), allowNull: false },
         isSiteAdmin: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+        sessionsValidAfter: { type: DataTypes.DATE(3), allowNull: true },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

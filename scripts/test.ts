@@ -21,12 +21,14 @@ function pythonHas(module: string): boolean {
 
 function main(): number {
   // Independent tools the tests compare against: Chromium for the browser tests; libtiff's tiffcp and
-  // Debian's numpy + tifffile (run with /usr/bin/python3, not a pyenv one) for the TIFF checks.
+  // Debian's numpy + tifffile (run with /usr/bin/python3, not a pyenv one) and ImageMagick for the TIFF checks.
   const needed: [string, () => boolean][] = [
     ["chromium", () => Boolean(findExecutable("chromium"))],
     ["libtiff-tools", () => Boolean(findExecutable("tiffcp"))],
     ["python3-numpy", () => pythonHas("numpy")],
     ["python3-tifffile", () => pythonHas("tifffile")],
+    // The real ImageMagick; /usr/local/bin/convert may be a stand-in, so look for Debian's own.
+    ["imagemagick", () => existsSync("/usr/bin/convert")],
   ];
   const missing = needed.filter(([, present]) => !present()).map(([pkg]) => pkg);
   if (missing.length) ensureDebianPackages(missing, "the browser and file-format tests");

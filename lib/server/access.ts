@@ -27,7 +27,11 @@ export async function currentUser(): Promise<SessionUser | null> {
   const id = session?.user?.id;
   if (!id) return null;
   const user = await db().User.findByPk(id);
-  return user ? { id: user.id, email: user.email, name: user.name, isSiteAdmin: Boolean(user.isSiteAdmin) } : null;
+  if (!user) return null;
+  // After a password reset, sessions that signed in earlier no longer count.
+  const signedInAt = session.user.signedInAt ?? 0;
+  if (user.sessionsValidAfter && signedInAt < user.sessionsValidAfter.getTime()) return null;
+  return { id: user.id, email: user.email, name: user.name, isSiteAdmin: Boolean(user.isSiteAdmin) };
 }
 
 export async function requireUser(): Promise<SessionUser> {

@@ -69,8 +69,10 @@ export async function resetPassword(token: string, password: string, ip: string 
     if (!reset) throw new HttpError(400, "invalid_input", "This reset link is not valid.", { token: "Unknown link; ask for a new one." });
     if (reset.usedAt) throw gone("This reset link was already used. Ask for a new one.");
     if (reset.expiresAt.getTime() < Date.now()) throw gone("This reset link has expired. Ask for a new one.");
-    await User.update({ passwordHash }, { where: { id: reset.userId }, transaction });
-    await reset.update({ usedAt: new Date() }, { transaction });
+    const now = new Date();
+    // The new password ends every existing session and every other outstanding reset link.
+    await User.update({ passwordHash, sessionsValidAfter: now }, { where: { id: reset.userId }, transaction });
+    await PasswordReset.update({ usedAt: now }, { where: { userId: reset.userId, usedAt: null }, transaction });
     await audit({ action: "user.password_reset", actorId: reset.userId, ip }, transaction);
   });
 }

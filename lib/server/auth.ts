@@ -32,11 +32,17 @@ export const authOptions: NextAuthOptions = {
   ],
   callbacks: {
     jwt({ token, user }) {
-      if (user) token.uid = Number(user.id);
+      if (user) {
+        token.uid = Number(user.id);
+        token.signedInAt = Date.now();
+      }
       return token;
     },
     session({ session, token }) {
-      if (session.user && token.uid) session.user.id = token.uid;
+      if (session.user && token.uid) {
+        session.user.id = token.uid;
+        session.user.signedInAt = token.signedInAt;
+      }
       return session;
     },
   },

@@ -134,6 +134,14 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
   }
   // Reduced-resolution copies (NewSubfileType bit 0) are previews, not planes.
   const planes = structure.ifds.filter((ifd) => (ifd.subfileType & 1) === 0);
+  const lossy = planes.find((p) => p.lossy);
+  if (lossy) {
+    // Kept and listed, but flagged before anything else: its values are not the camera's counts.
+    await dataset.update({ lossy: true, compression: compressionName(lossy.compression), planeCount: planes.length });
+    if (!lossy.supported) {
+      throw new IngestError(`Lossy ${compressionName(lossy.compression)} compression — not for quantification. The file is stored, but Fluxframe does not read lossy planes.`);
+    }
+  }
   checkPlanes(planes, structure.fileSize);
   const first = planes[0];
 

@@ -122,6 +122,21 @@ describe("forgotten password", () => {
     expect(await new Client().signIn(user.email, "the-new-password-1")).toBe(true);
   });
 
+  it("ends the account's existing sessions and its other reset links when the password is reset", async () => {
+    const user = await newUser("sessions");
+    expect((await user.get("/api/me")).status).toBe(200);
+    const older = await resetToken(user.email);
+    const token = await resetToken(user.email);
+    expect((await anonymous().post("/api/account/password/reset", { token, password: "the-new-password-1" })).status).toBe(200);
+    // The session that signed in before the reset is refused; a new sign-in works.
+    expect((await user.get("/api/me")).status).toBe(401);
+    const again = new Client();
+    expect(await again.signIn(user.email, "the-new-password-1")).toBe(true);
+    expect((await again.get("/api/me")).status).toBe(200);
+    // The reset link mailed earlier no longer works either.
+    expectError(await anonymous().post("/api/account/password/reset", { token: older, password: "a-third-password-3" }), 410, "gone");
+  });
+
   it("refuses an expired token with 410 and keeps the old password", async () => {
     const user = await newUser("expired");
     const token = await resetToken(user.email);

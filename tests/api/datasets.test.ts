@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadStackFixture, PERCENTS, type StackFixture } from "../imaging/stack-fixture";
 import { db } from "../helpers/db";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
+import { PYTHON, run, tempDir, tiffcp } from "../helpers/tiff-tools";
 import { partOf, putPart, sha256, startUpload, uploadFile, waitForIngest } from "../helpers/uploads";
 
 let fixture: StackFixture;
@@ -210,6 +211,33 @@ describe("bad files", () => {
     const { dataset } = await waitForIngest(lab.editor, reply.body.datasetId);
     expect(dataset.status).toBe("failed");
     expect(dataset.failureReason).toMatch(/end|truncat|past/i);
+  });
+});
+
+describe("lossy and oversized files", () => {
+  it("stores a JPEG-compressed TIFF but flags it lossy and does not read its planes", async () => {
+    const tmp = tempDir("jpeg");
+    try {
+      const eight = tmp.path("eight.tif");
+      run(PYTHON, ["-c", `import numpy as np, tifffile; tifffile.imwrite(${JSON.stringify(eight)}, (np.arange(64*48).reshape(48,64) % 251).astype(np.uint8), photometric="minisblack", metadata=None)`]);
+      // libtiff's JPEG codec (TIFF 6.0 compression 7): lossy, so the counts are no longer the camera's.
+      const jpeg = tiffcp(eight, tmp.path("jpeg.tif"), ["-c", "jpeg"]);
+      const reply = await uploadFile(lab.editor, lab.labId, new Uint8Array(readFileSync(jpeg)), { fileName: "lossy.tif", dimensions: { sizeC: 1, sizeZ: 1, sizeT: 1, order: "XYCZT" } });
+      expect(reply.status).toBe(201);
+      const { dataset } = await waitForIngest(lab.editor, reply.body.datasetId);
+      expect(dataset.lossy).toBe(true);
+      expect(dataset.failureReason).toMatch(/Lossy .*not for quantification/);
+      const listed = await lab.viewer.get(`/api/labs/${lab.labId}/datasets?q=lossy`);
+      expect(listed.body.datasets[0].lossy).toBe(true);
+    } finally {
+      tmp.remove();
+    }
+  });
+
+  it("refuses an upload above the size limit before any byte is sent", async () => {
+    const reply = await lab.editor.post(`/api/labs/${lab.labId}/uploads`, { fileName: "huge.tif", sizeBytes: 60 * 1024 ** 3 });
+    expect(reply.status).toBe(413);
+    expect(reply.body.error.fields.sizeBytes).toBeDefined();
   });
 });
 
