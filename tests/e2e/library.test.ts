@@ -76,6 +76,8 @@ describe("the library in the browser", () => {
   it("opens a dataset, verifies the stored file and saves metadata", async () => {
     const page = editor.page;
     await page.getByRole("link", { name: "stack", exact: true }).click();
+    // The title opens the bench; the details page is one click from there.
+    await page.getByRole("link", { name: "Details" }).click();
     await page.getByRole("heading", { name: "stack", exact: true }).waitFor();
     const digest = sha256(new Uint8Array(readFileSync(fixture.omePath)));
     await page.getByText(digest).waitFor();

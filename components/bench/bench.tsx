@@ -1,0 +1,371 @@
+"use client";
+
+import { useQuery } from "@tanstack/react-query";
+import { get as idbGet, set as idbSet } from "idb-keyval";
+import Link from "next/link";
+import { useRouter, useSearchParams } from "next/navigation";
+import { useCallback, useEffect, useMemo, useRef, useState } from "react";
+import { api } from "@/lib/client/api";
+import { useDataset } from "@/lib/client/datasets";
+import { useBenchWorker } from "@/lib/client/use-bench-worker";
+import { hexToRgb } from "@/lib/imaging/palettes";
+import type { BenchPlaneRef, BenchRender, RawValue } from "@/workers/bench-api";
+import { ChannelCard, type ChannelState } from "./channel-card";
+import { HelpOverlay } from "./help-overlay";
+import { Viewport, type ViewportHandle } from "./viewport";
+
+const FIT_LOW = 0.1;
+const FIT_HIGH = 99.9;
+
+function formatTime(seconds: number): string {
+  const h = Math.floor(seconds / 3600);
+  const m = Math.floor((seconds % 3600) / 60);
+  const s = seconds % 60;
+  return `${String(h).padStart(2, "0")}:${String(m).padStart(2, "0")}:${s.toFixed(s % 1 ? 1 : 0).padStart(2, "0")}`;
+}
+
+export function Bench({ labId, datasetId }: { labId: number; datasetId: number }) {
+  const router = useRouter();
+  const search = useSearchParams();
+  const datasetQuery = useDataset(datasetId);
+  const planesQuery = useQuery({
+    queryKey: ["datasets", datasetId, "planes"],
+    queryFn: async () => (await api<{ planes: (BenchPlaneRef & Record<string, unknown>)[] }>(`/api/datasets/${datasetId}/planes`)).planes,
+    enabled: datasetQuery.data?.dataset.status === "ready",
+  });
+  const bench = useBenchWorker();
+  const dataset = datasetQuery.data?.dataset;
+  const sizeZ = dataset?.sizeZ ?? 1;
+  const sizeT = dataset?.sizeT ?? 1;
+  const ceiling = dataset?.ceiling ?? 65535;
+
+  const [z, setZ] = useState(() => Number(search.get("z") ?? 0) || 0);
+  const [t, setT] = useState(() => Number(search.get("t") ?? 0) || 0);
+  const [channels, setChannels] = useState<ChannelState[] | null>(null);
+  const [composite, setComposite] = useState<"add" | "max">("add");
+  const [log, setLog] = useState(true);
+  const [range, setRange] = useState<"ceiling" | "data">("ceiling");
+  const [playing, setPlaying] = useState(false);
+  const [rate, setRate] = useState(5);
+  const [loop, setLoop] = useState(true);
+  const [opened, setOpened] = useState(false);
+  const [rendered, setRendered] = useState<BenchRender | null>(null);
+  const [error, setError] = useState<string | null>(null);
+  const [readout, setReadout] = useState<{ x: number; y: number; values: RawValue[] } | null>(null);
+  const [help, setHelp] = useState(false);
+  const [fitting, setFitting] = useState<number | null>(null);
+  const [firstDrawMs, setFirstDrawMs] = useState<number | null>(null);
+  const started = useRef(performance.now());
+  const viewport = useRef<ViewportHandle>(null);
+  const storageKey = `bench:${datasetId}`;
+
+  // Channel mappings: unsaved edits survive a reload (IndexedDB); otherwise Fit from the stack statistics.
+  useEffect(() => {
+    if (!datasetQuery.data || channels) return;
+    const { dataset: d, channelStats } = datasetQuery.data;
+    const visibleFromUrl = search.get("ch")?.split(",").map(Number);
+    void idbGet<ChannelState[]>(storageKey)
+      .catch(() => undefined)
+      .then((saved) => {
+        const defaults = (d.channels ?? []).map((ch, c) => {
+          const s = channelStats.find((x) => x.c === c);
+          const black = Math.round(s?.percentiles?.["0.1"] ?? 0);
+          const white = Math.max(black + 1, Math.round(s?.percentiles?.["99.9"] ?? d.ceiling ?? 65535));
+          return { c, name: ch.name, colour: ch.colour.toLowerCase(), visible: true, black, white };
+        });
+        const base = saved && saved.length === defaults.length ? saved : defaults;
+        setChannels(visibleFromUrl ? base.map((ch) => ({ ...ch, visible: visibleFromUrl.includes(ch.c) })) : base);
+      });
+  }, [datasetQuery.data, channels, search, storageKey]);
+
+  useEffect(() => {
+    if (channels) void idbSet(storageKey, channels).catch(() => undefined);
+  }, [channels, storageKey]);
+
+  // The plane and visible channels live in the URL, so a reload or a copied address opens the same view.
+  useEffect(() => {
+    if (!channels) return;
+    const params = new URLSearchParams({ z: String(z), t: String(t), ch: channels.filter((c) => c.visible).map((c) => c.c).join(",") });
+    const handle = setTimeout(() => router.replace(`?${params}`, { scroll: false }), 300);
+    return () => clearTimeout(handle);
+  }, [z, t, channels, router]);
+
+  useEffect(() => {
+    if (!dataset || !planesQuery.data || opened) return;
+    bench
+      .open({
+        datasetId,
+        fileUrl: `/api/datasets/${datasetId}/file`,
+        size: dataset.sizeBytes,
+        planes: planesQuery.data.map((p) => ({ ifdIndex: p.ifdIndex, ifdOffset: p.ifdOffset, c: p.c, z: p.z, t: p.t })),
+        width: dataset.width ?? 0,
+        height: dataset.height ?? 0,
+        ceiling,
+      })
+      .then(() => setOpened(true))
+      .catch((e: unknown) => setError(e instanceof Error ? e.message : String(e)));
+  }, [bench, dataset, planesQuery.data, opened, datasetId, ceiling]);
+
+  // Render whenever the plane or a mapping changes; a newer render supersedes (aborts) an older one.
+  useEffect(() => {
+    if (!opened || !channels) return;
+    let stale = false;
+    bench
+      .render({
+        z,
+        t,
+        composite,
+        channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, black: ch.black, white: ch.white, colour: hexToRgb(ch.colour) })),
+      })
+      .then((result) => {
+        if (stale) return;
+        setRendered(result);
+        setError(null);
+        viewport.current?.draw(result);
+        setFirstDrawMs((ms) => ms ?? Math.round(performance.now() - started.current));
+      })
+      .catch((e: unknown) => {
+        if (stale || (e instanceof Error && e.name === "AbortError")) return;
+        setError(e instanceof Error ? e.message : String(e));
+      });
+    return () => {
+      stale = true;
+    };
+  }, [bench, opened, channels, z, t, composite]);
+
+  // Playback: advance t at the chosen rate, prefetching the next time points.
+  useEffect(() => {
+    if (!playing || !opened) return;
+    const handle = setInterval(() => {
+      setT((current) => {
+        const next = current + 1;
+        if (next < sizeT) return next;
+        if (loop) return 0;
+        setPlaying(false);
+        return current;
+      });
+    }, 1000 / rate);
+    return () => clearInterval(handle);
+  }, [playing, rate, loop, sizeT, opened]);
+
+  useEffect(() => {
+    if (!opened || !playing) return;
+    const ahead = [1, 2, 3].map((k) => (t + k) % sizeT);
+    void bench.prefetch(z, ahead).catch(() => undefined);
+  }, [bench, opened, playing, t, z, sizeT]);
+
+  const updateChannel = useCallback((c: number, patch: Partial<ChannelState>) => {
+    setChannels((all) => all?.map((ch) => (ch.c === c ? { ...ch, ...patch } : ch)) ?? all);
+  }, []);
+
+  const fit = useCallback(
+    async (c: number) => {
+      setFitting(c);
+      try {
+        const [black, white] = await bench.percentiles(z, t, c, [FIT_LOW, FIT_HIGH]);
+        updateChannel(c, { black: Math.floor(black), white: Math.max(Math.ceil(white), Math.floor(black) + 1) });
+      } catch (e) {
+        setError(e instanceof Error ? e.message : String(e));
+      } finally {
+        setFitting(null);
+      }
+    },
+    [bench, z, t, updateChannel],
+  );
+
+  const onPointer = useCallback(
+    (point: { x: number; y: number } | null) => {
+      if (!point || !opened) return setReadout(null);
+      void bench
+        .readValues(z, t, point.x, point.y)
+        .then((values) => setReadout({ ...point, values }))
+        .catch(() => undefined);
+    },
+    [bench, opened, z, t],
+  );
+
+  const onKey = useCallback(
+    (e: React.KeyboardEvent) => {
+      if ((e.target as HTMLElement).tagName === "INPUT" || (e.target as HTMLElement).tagName === "SELECT") return;
+      const keys: Record<string, () => void> = {
+        ArrowRight: () => setT((v) => Math.min(sizeT - 1, v + 1)),
+        ArrowLeft: () => setT((v) => Math.max(0, v - 1)),
+        ArrowUp: () => setZ((v) => Math.min(sizeZ - 1, v + 1)),
+        ArrowDown: () => setZ((v) => Math.max(0, v - 1)),
+        " ": () => setPlaying((p) => !p),
+        "+": () => viewport.current?.zoomBy(2),
+        "=": () => viewport.current?.zoomBy(2),
+        "-": () => viewport.current?.zoomBy(0.5),
+        "0": () => viewport.current?.fit(),
+        "1": () => viewport.current?.oneToOne(),
+        "?": () => setHelp((h) => !h),
+        Escape: () => setHelp(false),
+      };
+      const action = keys[e.key];
+      if (action) {
+        e.preventDefault();
+        action();
+      }
+    },
+    [sizeT, sizeZ],
+  );
+
+  const chips = useMemo(() => {
+    const list: string[] = [];
+    if (composite === "max") list.push("maximum blend");
+    if (channels?.some((c) => !c.visible)) list.push(`${channels.filter((c) => c.visible).length} of ${channels.length} channels`);
+    return list;
+  }, [composite, channels]);
+
+  if (datasetQuery.isPending) return <p className="text-sm text-paper-700">Loading dataset…</p>;
+  if (datasetQuery.isError || !dataset) return <p role="alert" className="text-sm text-fault-700">{datasetQuery.error?.message ?? "Dataset not found."}</p>;
+  if (dataset.status !== "ready") {
+    return (
+      <div className="space-y-2 text-sm">
+        <p>
+          {dataset.title} is {dataset.status === "failed" ? "not readable" : "still being read"}: the bench opens once its planes are indexed.
+        </p>
+        {dataset.failureReason && <p className="text-fault-700">{dataset.failureReason}</p>}
+        <Link href={`/labs/${labId}/datasets/${datasetId}/details`} className="text-flux-700 underline">
+          Dataset details
+        </Link>
+      </div>
+    );
+  }
+
+  const pixelSize = dataset.physicalSizeX;
+  const pixelCount = (dataset.width ?? 0) * (dataset.height ?? 0);
+
+  return (
+    // The bench is a neutral dark surround (LOOK.md): no tint around the image.
+    <div
+      className="relative left-1/2 -my-8 flex min-h-[calc(100vh-7.5rem)] w-screen -translate-x-1/2 flex-col bg-graphite-950 text-graphite-100 outline-none"
+      tabIndex={0}
+      onKeyDown={onKey}
+      aria-label="Bench: arrow keys move through t and z, space plays, + and − zoom, 0 fits, 1 is 1:1, ? lists keys"
+    >
+      <div className="flex flex-wrap items-center gap-3 border-b border-graphite-700 px-4 py-2 text-sm">
+        <Link href={`/labs/${labId}/datasets`} className="text-graphite-200 hover:text-white">
+          Datasets
+        </Link>
+        <span aria-hidden className="text-graphite-400">▸</span>
+        <h1 className="font-medium text-white">{dataset.title}</h1>
+        {dataset.lossy && <span className="rounded bg-fault-700 px-1.5 py-0.5 text-xs font-semibold text-white">lossy — not for quantification</span>}
+        <span className="ml-auto flex items-center gap-3">
+          <label className="flex items-center gap-1 text-xs text-graphite-200">
+            Blend
+            <select value={composite} onChange={(e) => setComposite(e.target.value as "add" | "max")} className="rounded border border-graphite-600 bg-graphite-900 px-1 py-0.5 text-xs">
+              <option value="add">additive</option>
+              <option value="max">maximum</option>
+            </select>
+          </label>
+          <Link href={`/labs/${labId}/datasets/${datasetId}/details`} className="text-xs text-graphite-200 underline hover:text-white">
+            Details
+          </Link>
+          <button type="button" onClick={() => setHelp(true)} className="rounded border border-graphite-600 px-2 py-0.5 text-xs" aria-label="Keyboard shortcuts">
+            ?
+          </button>
+        </span>
+      </div>
+      <div className="flex min-h-0 flex-1">
+        <div className="flex min-w-0 flex-1 flex-col">
+          <div className="relative min-h-[420px] flex-1">
+            <div className="pointer-events-none absolute left-2 top-2 z-10 flex gap-1">
+              {chips.map((chip) => (
+                <span key={chip} className="rounded bg-graphite-800/90 px-1.5 py-0.5 text-[11px] text-graphite-100">
+                  {chip}
+                </span>
+              ))}
+            </div>
+            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={pixelSize} onPointer={onPointer} />
+            {!rendered && !error && <p className="absolute inset-0 grid place-items-center text-sm text-graphite-300">Reading the plane…</p>}
+            {error && (
+              <p role="alert" className="absolute inset-x-4 bottom-4 rounded bg-fault-700 px-3 py-2 text-sm text-white">
+                {error}
+              </p>
+            )}
+          </div>
+          <div className="num flex min-h-8 flex-wrap items-center gap-x-4 border-t border-graphite-700 px-4 py-1.5 text-xs text-graphite-100" aria-live="polite" aria-label="Readout">
+            {readout ? (
+              <>
+                <span>
+                  x {readout.x} y {readout.y}
+                  {pixelSize ? ` · ${(readout.x * pixelSize).toFixed(2)}, ${(readout.y * pixelSize).toFixed(2)} µm` : ""}
+                </span>
+                {readout.values.map((v) => (
+                  <span key={v.c}>
+                    {channels?.[v.c]?.name ?? `c${v.c}`} <strong className="font-semibold text-white">{v.value}</strong> <span className="text-graphite-300">DN</span>
+                  </span>
+                ))}
+              </>
+            ) : (
+              <span className="text-graphite-300">Point at the image to read raw values.</span>
+            )}
+          </div>
+        </div>
+        <aside className="w-80 shrink-0 space-y-3 overflow-y-auto border-l border-graphite-700 p-3" aria-label="Channels">
+          <div className="flex items-center justify-between text-xs text-graphite-200">
+            <span className="font-semibold uppercase tracking-wide">Channels</span>
+            <label className="flex items-center gap-1">
+              <input type="checkbox" checked={log} onChange={(e) => setLog(e.target.checked)} className="accent-flux-500" />
+              Log counts
+            </label>
+            <label className="flex items-center gap-1">
+              <input type="checkbox" checked={range === "data"} onChange={(e) => setRange(e.target.checked ? "data" : "ceiling")} className="accent-flux-500" />
+              Data range
+            </label>
+          </div>
+          {channels?.map((ch) => (
+            <ChannelCard
+              key={ch.c}
+              channel={ch}
+              stats={rendered?.channels.find((s) => s.c === ch.c)}
+              ceiling={ceiling}
+              pixelCount={pixelCount}
+              log={log}
+              range={range}
+              onChange={(patch) => updateChannel(ch.c, patch)}
+              onSolo={() => setChannels((all) => all?.map((x) => ({ ...x, visible: x.c === ch.c })) ?? all)}
+              onFit={() => void fit(ch.c)}
+              fitBusy={fitting === ch.c}
+            />
+          ))}
+          <p className="text-[11px] leading-snug text-graphite-300">
+            Mappings change only the display; the stored counts are never changed. Fit uses the {FIT_LOW} % and {FIT_HIGH} % points of this plane&apos;s exact histogram.
+          </p>
+        </aside>
+      </div>
+      <div className="flex flex-wrap items-center gap-x-6 gap-y-2 border-t border-graphite-700 px-4 py-2 text-xs">
+        <label className="flex items-center gap-2">
+          z
+          <input type="range" min={0} max={Math.max(0, sizeZ - 1)} value={z} onChange={(e) => setZ(Number(e.target.value))} disabled={sizeZ < 2} aria-label="z-slice" className="w-40 accent-flux-500" />
+          <span className="num">
+            {z + 1}/{sizeZ}
+            {dataset.physicalSizeZ ? ` · ${(z * dataset.physicalSizeZ).toFixed(2)} µm` : ""}
+          </span>
+        </label>
+        <label className="flex items-center gap-2">
+          t
+          <input type="range" min={0} max={Math.max(0, sizeT - 1)} value={t} onChange={(e) => setT(Number(e.target.value))} disabled={sizeT < 2} aria-label="time point" className="w-56 accent-flux-500" />
+          <span className="num" aria-label="Time label">
+            {t + 1}/{sizeT}
+            {dataset.timeIncrement ? ` · ${formatTime(t * dataset.timeIncrement)}` : ""}
+          </span>
+        </label>
+        <button type="button" onClick={() => setPlaying((p) => !p)} disabled={sizeT < 2} className="rounded bg-graphite-700 px-2 py-1 font-medium text-white hover:bg-graphite-600 disabled:opacity-50">
+          {playing ? "❚❚ Pause" : "▶ Play"}
+        </button>
+        <label className="flex items-center gap-1">
+          <input type="number" min={1} max={30} value={rate} onChange={(e) => setRate(Math.min(30, Math.max(1, e.target.valueAsNumber || 1)))} className="num w-12 rounded border border-graphite-600 bg-graphite-900 px-1 text-right" />
+          /s
+        </label>
+        <label className="flex items-center gap-1">
+          <input type="checkbox" checked={loop} onChange={(e) => setLoop(e.target.checked)} className="accent-flux-500" />
+          loop
+        </label>
+        {firstDrawMs !== null && <span className="num ml-auto text-graphite-300">first plane drawn in {firstDrawMs} ms</span>}
+      </div>
+      {help && <HelpOverlay onClose={() => setHelp(false)} />}
+    </div>
+  );
+}

@@ -1,0 +1,137 @@
+"use client";
+
+import { forwardRef, useCallback, useEffect, useImperativeHandle, useRef, useState } from "react";
+
+/** A point in image pixels (not screen pixels): kept apart so zoom cannot mix the two spaces. */
+export interface ImagePoint {
+  x: number;
+  y: number;
+}
+
+export interface ViewportHandle {
+  draw(frame: { width: number; height: number; rgba: Uint8ClampedArray }): void;
+  zoomBy(factor: number): void;
+  fit(): void;
+  oneToOne(): void;
+}
+
+interface Props {
+  width: number;
+  height: number;
+  /** Micrometres per pixel, for the scale bar; null hides it. */
+  pixelSizeUm: number | null;
+  onPointer: (point: ImagePoint | null) => void;
+}
+
+const MAX_SCALE = 32;
+
+/** A length of 1, 2 or 5 × 10^k µm that draws between about 60 and 150 screen pixels. */
+export function niceScaleBar(umPerScreenPx: number): { um: number; px: number } {
+  const target = 100 * umPerScreenPx;
+  const exponent = Math.floor(Math.log10(target));
+  const candidates = [1, 2, 5, 10].map((m) => m * 10 ** exponent);
+  const um = candidates.reduce((best, c) => (Math.abs(c / umPerScreenPx - 100) < Math.abs(best / umPerScreenPx - 100) ? c : best));
+  return { um, px: um / umPerScreenPx };
+}
+
+export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ width, height, pixelSizeUm, onPointer }, ref) {
+  const box = useRef<HTMLDivElement>(null);
+  const canvas = useRef<HTMLCanvasElement>(null);
+  const [view, setView] = useState({ scale: 1, x: 0, y: 0 });
+  const drag = useRef<{ x: number; y: number; vx: number; vy: number } | null>(null);
+
+  const fitView = useCallback(() => {
+    const rect = box.current?.getBoundingClientRect();
+    if (!rect || !rect.width) return;
+    const scale = Math.min(MAX_SCALE, rect.width / width, rect.height / height);
+    setView({ scale, x: (rect.width - width * scale) / 2, y: (rect.height - height * scale) / 2 });
+  }, [width, height]);
+
+  const zoomAt = useCallback((factor: number, cx?: number, cy?: number) => {
+    setView((v) => {
+      const rect = box.current?.getBoundingClientRect();
+      const px = cx ?? (rect ? rect.width / 2 : 0);
+      const py = cy ?? (rect ? rect.height / 2 : 0);
+      const scale = Math.min(MAX_SCALE, Math.max(0.05, v.scale * factor));
+      const k = scale / v.scale;
+      return { scale, x: px - (px - v.x) * k, y: py - (py - v.y) * k };
+    });
+  }, []);
+
+  useImperativeHandle(
+    ref,
+    () => ({
+      draw(frame) {
+        const ctx = canvas.current?.getContext("2d");
+        if (!ctx) return;
+        ctx.putImageData(new ImageData(new Uint8ClampedArray(frame.rgba.buffer as ArrayBuffer, frame.rgba.byteOffset, frame.rgba.byteLength), frame.width, frame.height), 0, 0);
+      },
+      zoomBy: (factor) => zoomAt(factor),
+      fit: fitView,
+      oneToOne: () => {
+        const rect = box.current?.getBoundingClientRect();
+        if (rect) setView({ scale: 1, x: (rect.width - width) / 2, y: (rect.height - height) / 2 });
+      },
+    }),
+    [fitView, zoomAt, width, height],
+  );
+
+  useEffect(() => {
+    fitView();
+    const observer = new ResizeObserver(() => fitView());
+    if (box.current) observer.observe(box.current);
+    return () => observer.disconnect();
+  }, [fitView]);
+
+  const toImage = (clientX: number, clientY: number): ImagePoint | null => {
+    const rect = box.current!.getBoundingClientRect();
+    const x = Math.floor((clientX - rect.left - view.x) / view.scale);
+    const y = Math.floor((clientY - rect.top - view.y) / view.scale);
+    return x >= 0 && y >= 0 && x < width && y < height ? { x, y } : null;
+  };
+
+  const bar = pixelSizeUm ? niceScaleBar(pixelSizeUm / view.scale) : null;
+
+  return (
+    <div
+      ref={box}
+      className="absolute inset-0 cursor-grab overflow-hidden active:cursor-grabbing"
+      onWheel={(e) => {
+        const rect = box.current!.getBoundingClientRect();
+        zoomAt(e.deltaY < 0 ? 1.25 : 0.8, e.clientX - rect.left, e.clientY - rect.top);
+      }}
+      onPointerDown={(e) => {
+        drag.current = { x: e.clientX, y: e.clientY, vx: view.x, vy: view.y };
+        (e.target as Element).setPointerCapture?.(e.pointerId);
+      }}
+      onPointerUp={() => (drag.current = null)}
+      onPointerMove={(e) => {
+        if (drag.current) {
+          const d = drag.current;
+          setView((v) => ({ ...v, x: d.vx + e.clientX - d.x, y: d.vy + e.clientY - d.y }));
+        } else {
+          onPointer(toImage(e.clientX, e.clientY));
+        }
+      }}
+      onPointerLeave={() => onPointer(null)}
+      onDoubleClick={fitView}
+    >
+      <canvas
+        ref={canvas}
+        width={width}
+        height={height}
+        aria-label="Image plane"
+        data-scale={view.scale.toFixed(3)}
+        className="absolute left-0 top-0 origin-top-left"
+        style={{ transform: `translate(${view.x}px, ${view.y}px) scale(${view.scale})`, imageRendering: "pixelated" }}
+      />
+      {bar && (
+        <div className="pointer-events-none absolute bottom-3 right-4 text-right text-[11px] text-white" aria-label={`Scale bar ${bar.um} µm`}>
+          <div className="mb-1 h-1 bg-white" style={{ width: `${bar.px}px`, marginLeft: "auto" }} />
+          <span className="num">{bar.um >= 1 ? bar.um : bar.um.toPrecision(1)} µm</span>
+        </div>
+      )}
+      <span className="num pointer-events-none absolute bottom-3 left-4 text-[11px] text-graphite-300">{Math.round(view.scale * 100)} %</span>
+    </div>
+  );
+});

@@ -1,0 +1,165 @@
+"use client";
+
+import { releaseProxy, wrap, type Endpoint, type Remote } from "comlink";
+import { useEffect, useState } from "react";
+import type { BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, RawValue } from "@/workers/bench-api";
+
+/** A worker failure, with what the bench was doing in the message; the worker's error is `cause`. */
+export class BenchWorkerError extends Error {
+  override name = "BenchWorkerError";
+}
+
+/** The worker, or anything that speaks to one (a MessagePort in tests). */
+export type BenchEndpoint = Endpoint & { terminate?(): void };
+
+function startWorker(): BenchEndpoint {
+  // This exact form lets Turbopack and webpack find and bundle the worker (PLATFORM.md, "Workers").
+  return new Worker(new URL("../../workers/bench.worker.ts", import.meta.url), { type: "module" });
+}
+
+function abortReason(signal: AbortSignal): Error {
+  return signal.reason instanceof Error ? signal.reason : new DOMException("Aborted", "AbortError");
+}
+
+const isAbort = (e: unknown) => e instanceof Error && e.name === "AbortError";
+
+interface Pending {
+  reject(e: Error): void;
+}
+
+/**
+ * Owns one bench worker: starts it on first use, stops it on `terminate()`, and turns AbortSignals
+ * into request ids. Cancellation choice: an AbortSignal cannot be posted, so every call carries an
+ * id and aborting posts `cancel(id)`; the promise here rejects at once with AbortError, without
+ * waiting for the worker to notice. A request id keeps the worker side plain (no custom comlink
+ * transfer handler that would have to proxy an event target through a MessagePort per call).
+ */
+export class BenchWorkerClient {
+  private endpoint: BenchEndpoint | null = null;
+  private remote: Remote<BenchWorkerApi> | null = null;
+  private nextId = 0;
+  private readonly pending = new Set<Pending>();
+  private lastRender: AbortController | null = null;
+  private lastPrefetch: AbortController | null = null;
+
+  constructor(private readonly create: () => BenchEndpoint = startWorker) {}
+
+  private connect(): Remote<BenchWorkerApi> {
+    if (this.remote) return this.remote;
+    const endpoint = this.create();
+    // A worker script that fails to load or throws at top level answers nothing: fail the waiters.
+    endpoint.addEventListener("error", ((event: Event) => {
+      const detail = (event as { message?: unknown }).message;
+      const message = typeof detail === "string" && detail ? detail : "the worker failed to start or crashed";
+      this.failAll(new BenchWorkerError(`The bench worker stopped: ${message}`));
+    }) as EventListener);
+    this.endpoint = endpoint;
+    this.remote = wrap<BenchWorkerApi>(endpoint);
+    return this.remote;
+  }
+
+  private failAll(error: Error): void {
+    for (const p of [...this.pending]) p.reject(error);
+  }
+
+  /** Stops the worker; calls still waiting reject with AbortError. A later call starts a new worker. */
+  terminate(): void {
+    this.lastRender?.abort();
+    this.lastPrefetch?.abort();
+    this.failAll(new DOMException("The bench worker was stopped", "AbortError"));
+    this.remote?.[releaseProxy]();
+    this.endpoint?.terminate?.();
+    this.remote = null;
+    this.endpoint = null;
+  }
+
+  private call<T>(what: string, signal: AbortSignal | undefined, run: (remote: Remote<BenchWorkerApi>, id: number) => Promise<T>): Promise<T> {
+    if (signal?.aborted) return Promise.reject(abortReason(signal));
+    const remote = this.connect();
+    const id = ++this.nextId;
+    return new Promise<T>((resolve, reject) => {
+      const settle = () => {
+        this.pending.delete(entry);
+        signal?.removeEventListener("abort", onAbort);
+      };
+      const entry: Pending = {
+        reject(e) {
+          settle();
+          reject(e);
+        },
+      };
+      this.pending.add(entry);
+      const onAbort = () => {
+        settle();
+        // Fire and forget: the worker may already have finished this request.
+        remote.cancel(id).catch(() => undefined);
+        reject(abortReason(signal as AbortSignal));
+      };
+      signal?.addEventListener("abort", onAbort, { once: true });
+      run(remote, id).then(
+        (value) => {
+          settle();
+          resolve(value);
+        },
+        (e: unknown) => {
+          settle();
+          if (isAbort(e)) reject(e as Error);
+          else reject(new BenchWorkerError(`while ${what}: ${e instanceof Error ? e.message : String(e)}`, { cause: e }));
+        },
+      );
+    });
+  }
+
+  open(args: BenchOpenArgs, signal?: AbortSignal) {
+    this.lastRender?.abort();
+    this.lastPrefetch?.abort();
+    return this.call(`opening dataset ${args.datasetId}`, signal, (r, id) => r.open(args, id));
+  }
+
+  /**
+   * Renders a view; a newer render aborts the one before (scrubbing). The newer request is posted
+   * before the older is cancelled, so a plane both need keeps loading instead of starting over.
+   */
+  render(view: BenchView, signal?: AbortSignal): Promise<BenchRender> {
+    const previous = this.lastRender;
+    const own = new AbortController();
+    this.lastRender = own;
+    const combined = signal ? AbortSignal.any([signal, own.signal]) : own.signal;
+    const result = this.call(`rendering z ${view.z}, t ${view.t}`, combined, (r, id) => r.renderView(view, id));
+    previous?.abort(new DOMException("Superseded by a newer view", "AbortError"));
+    return result;
+  }
+
+  readValues(z: number, t: number, x: number, y: number, signal?: AbortSignal): Promise<RawValue[]> {
+    return this.call(`reading pixel (${x}, ${y}) at z ${z}, t ${t}`, signal, (r, id) => r.readValues(z, t, x, y, id));
+  }
+
+  /** Loads the planes of these time points ahead of playback; a newer prefetch supersedes the older. */
+  prefetch(z: number, ts: readonly number[], options: { channels?: readonly number[]; signal?: AbortSignal } = {}) {
+    const previous = this.lastPrefetch;
+    const own = new AbortController();
+    this.lastPrefetch = own;
+    const combined = options.signal ? AbortSignal.any([options.signal, own.signal]) : own.signal;
+    const result = this.call(`prefetching z ${z}, t ${ts.join(", ")}`, combined, (r, id) => r.prefetch(z, [...ts], id, options.channels && [...options.channels]));
+    previous?.abort(new DOMException("Superseded by a newer prefetch", "AbortError"));
+    return result;
+  }
+
+  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal): Promise<number[]> {
+    return this.call(`computing percentiles of channel ${c} at z ${z}, t ${t}`, signal, (r, id) => r.percentiles(z, t, c, [...ps], id));
+  }
+
+  close(): Promise<void> {
+    return this.call("closing the dataset", undefined, (r) => r.close());
+  }
+}
+
+/**
+ * The bench worker for one component's lifetime: started on first use (never during server
+ * rendering), terminated on unmount. The returned object is stable across renders.
+ */
+export function useBenchWorker(): BenchWorkerClient {
+  const [client] = useState(() => new BenchWorkerClient());
+  useEffect(() => () => client.terminate(), [client]);
+  return client;
+}
