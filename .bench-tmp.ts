@@ -1,2 +1,10 @@
-import { pixelBenches } from "./tests/bench/pixels";
-console.table((await pixelBenches()).map((r) => ({ ...r, ratio: r.ratio.toFixed(4) })));
+const N = 2048*2048;
+const pixels = new Uint16Array(N); for (let i=0;i<N;i++) pixels[i] = (i*7) & 4095;
+const lut = new Int32Array(65536); for (let i=0;i<65536;i++) lut[i] = i*77;
+const out = new Int32Array(N);
+const med = (f: () => void) => { f(); const t: number[] = []; for (let i=0;i<9;i++){ const s=performance.now(); f(); t.push(performance.now()-s);} t.sort((a,b)=>a-b); return t[4].toFixed(2); };
+let s = 0;
+console.log("sum", med(() => { let a = 0; for (let i=0;i<N;i++) a += pixels[i]; s += a; }));
+console.log("copy loop", med(() => { for (let i=0;i<N;i++) out[i] = pixels[i]; }));
+console.log("lut", med(() => { for (let i=0;i<N;i++) out[i] = lut[pixels[i]]; }));
+console.log("set", med(() => { out.set(lut.subarray(0, 65536)); }));

@@ -7,6 +7,7 @@
 // tests/imaging/cvd.test.ts checks these constants equal the JSON exactly. The tritan model is the
 // least reliable of the three (the JSON's caveats).
 import type { Rgb } from "./colour-tables";
+import { LITTLE_ENDIAN } from "./lut";
 
 export type CvdKind = "protanopia" | "deuteranopia" | "tritanopia";
 export const CVD_KINDS: readonly CvdKind[] = ["protanopia", "deuteranopia", "tritanopia"];
@@ -121,6 +122,7 @@ export const ENCODE_TABLE: Uint8Array = Uint8Array.from({ length: ENCODE_STEPS }
 
 const clamp01 = (x: number) => Math.min(Math.max(x, 0), 1);
 
+
 /**
  * One colour through the exact path (double precision, no tables): decode, multiply, clip to
  * [0, 1], encode, round to 8 bits. For colour checks (warnings, mark choice), not for images.
@@ -134,37 +136,63 @@ export function simulateCvdRgb(rgb: Rgb, kind: CvdKind, severity = 1): Rgb {
 
 type Rgba = Uint8ClampedArray | Uint32Array;
 
-function bytesOf(a: Rgba): Uint8Array {
-  return new Uint8Array(a.buffer, a.byteOffset, a.byteLength);
+/** Fixed-point fraction bits of the encode-table index in the fast path. */
+const FRAC = 8;
+
+/**
+ * The fast path's per-matrix tables: term[3r + c][k] = M[r][c] · linear(k) · 4095 · 2⁸, rounded to
+ * an integer, so a simulated component is three lookups and two integer adds, already scaled to the
+ * encode table's index (with 8 fraction bits).
+ */
+function termTables(m: Matrix3): Int32Array[] {
+  const scale = (ENCODE_STEPS - 1) * (1 << FRAC);
+  const terms: Int32Array[] = [];
+  for (let r = 0; r < 3; r++) for (let c = 0; c < 3; c++) terms.push(Int32Array.from(DECODE_TABLE, (x) => Math.round(m[r][c] * x * scale)));
+  return terms;
 }
 
 /**
  * Simulates a colour-vision deficiency on RGBA pixels (bytes R, G, B, A per pixel; a Uint32Array
- * is read as the same bytes, see lut.ts for the packing). Alpha is copied. Fast path: a 256-entry
- * decode table and a 4096-entry encode table, so there is no Math.pow per pixel; results are within
- * one code of simulateCvdRgb. `out` may be `rgba` itself (in place); by default a new array of the
- * same type.
+ * is read as the same bytes, see lut.ts for the packing). Alpha is copied. Fast path: the sRGB
+ * decode (256-entry table) and the matrix are folded into nine 256-entry integer tables, clipping
+ * is integer min/max, and a 4096-entry table encodes back to sRGB, so there is no Math.pow per
+ * pixel; results are within one code of simulateCvdRgb (tested). `out` may be `rgba` itself (in
+ * place); by default a new array of the same type.
  */
 export function simulateCvd<T extends Rgba>(rgba: T, kind: CvdKind, severity = 1, out?: T): T {
-  const result = out ?? (rgba instanceof Uint32Array ? new Uint32Array(rgba.length) : new Uint8ClampedArray(rgba.length)) as T;
+  const result = out ?? ((rgba instanceof Uint32Array ? new Uint32Array(rgba.length) : new Uint8ClampedArray(rgba.length)) as T);
   if (result.byteLength !== rgba.byteLength) throw new RangeError(`out has ${result.byteLength} bytes, rgba has ${rgba.byteLength}`);
-  const src = bytesOf(rgba);
-  const dst = bytesOf(result);
-  const [[m00, m01, m02], [m10, m11, m12], [m20, m21, m22]] = cvdMatrix(kind, severity);
-  const dec = DECODE_TABLE;
+  if (rgba.byteLength % 4 !== 0) throw new RangeError(`RGBA data must be whole pixels (4 bytes each), got ${rgba.byteLength} bytes`);
+  const [t00, t01, t02, t10, t11, t12, t20, t21, t22] = termTables(cvdMatrix(kind, severity));
   const enc = ENCODE_TABLE;
   const top = ENCODE_STEPS - 1;
+  const half = 1 << (FRAC - 1);
+  const aligned = rgba.byteOffset % 4 === 0 && result.byteOffset % 4 === 0;
+  if (LITTLE_ENDIAN && aligned) {
+    // One 32-bit load and store per pixel: bytes R, G, B, A are bits 0–7, 8–15, 16–23, 24–31.
+    const src = new Int32Array(rgba.buffer, rgba.byteOffset, rgba.byteLength / 4);
+    const dst = new Int32Array(result.buffer, result.byteOffset, result.byteLength / 4);
+    for (let i = 0; i < src.length; i++) {
+      const w = src[i];
+      const r = w & 255;
+      const g = (w >>> 8) & 255;
+      const b = (w >>> 16) & 255;
+      const r2 = Math.min(Math.max((t00[r] + t01[g] + t02[b] + half) >> FRAC, 0), top);
+      const g2 = Math.min(Math.max((t10[r] + t11[g] + t12[b] + half) >> FRAC, 0), top);
+      const b2 = Math.min(Math.max((t20[r] + t21[g] + t22[b] + half) >> FRAC, 0), top);
+      dst[i] = (w & 0xff000000) | (enc[b2] << 16) | (enc[g2] << 8) | enc[r2];
+    }
+    return result;
+  }
+  const src = new Uint8Array(rgba.buffer, rgba.byteOffset, rgba.byteLength);
+  const dst = new Uint8Array(result.buffer, result.byteOffset, result.byteLength);
   for (let i = 0; i < src.length; i += 4) {
-    const r = dec[src[i]];
-    const g = dec[src[i + 1]];
-    const b = dec[src[i + 2]];
-    // min/max instead of if/else: branch-free clipping; + 0.5 then truncation rounds half up.
-    const r2 = Math.min(Math.max(m00 * r + m01 * g + m02 * b, 0), 1);
-    const g2 = Math.min(Math.max(m10 * r + m11 * g + m12 * b, 0), 1);
-    const b2 = Math.min(Math.max(m20 * r + m21 * g + m22 * b, 0), 1);
-    dst[i] = enc[(r2 * top + 0.5) | 0];
-    dst[i + 1] = enc[(g2 * top + 0.5) | 0];
-    dst[i + 2] = enc[(b2 * top + 0.5) | 0];
+    const r = src[i];
+    const g = src[i + 1];
+    const b = src[i + 2];
+    dst[i] = enc[Math.min(Math.max((t00[r] + t01[g] + t02[b] + half) >> FRAC, 0), top)];
+    dst[i + 1] = enc[Math.min(Math.max((t10[r] + t11[g] + t12[b] + half) >> FRAC, 0), top)];
+    dst[i + 2] = enc[Math.min(Math.max((t20[r] + t21[g] + t22[b] + half) >> FRAC, 0), top)];
     dst[i + 3] = src[i + 3];
   }
   return result;

@@ -77,11 +77,30 @@ export function buildRgbaLut(lut: Uint8Array, table: ColourTable, out = new Uint
   return out;
 }
 
-/** One lookup per pixel: raw value → packed RGBA. No branches; `out` must hold one Uint32 per pixel. */
+/**
+ * One lookup per pixel: raw value → packed RGBA. No branches; `out` must hold one Uint32 per pixel.
+ * The loop works on Int32 views of the same memory (packed words with alpha 255 exceed 2³¹, and V8
+ * keeps int32 values unboxed) and is unrolled by four, which measured about 1.5× faster in
+ * tests/bench/pixels.ts on this machine.
+ */
 export function mapChannel(pixels: Uint16Array | Uint8Array, rgbaLut: Uint32Array, out: Uint32Array): Uint32Array {
   if (out.length < pixels.length) throw new RangeError(`out holds ${out.length} pixels, need ${pixels.length}`);
   if (rgbaLut.length < (pixels instanceof Uint8Array ? 256 : RGBA_LUT_SIZE)) throw new RangeError("rgbaLut is too short for these pixels");
-  for (let i = 0; i < pixels.length; i++) out[i] = rgbaLut[pixels[i]];
+  const lut = new Int32Array(rgbaLut.buffer, rgbaLut.byteOffset, rgbaLut.length);
+  const o = new Int32Array(out.buffer, out.byteOffset, out.length);
+  const n = pixels.length;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    const a = lut[pixels[i]];
+    const b = lut[pixels[i + 1]];
+    const c = lut[pixels[i + 2]];
+    const d = lut[pixels[i + 3]];
+    o[i] = a;
+    o[i + 1] = b;
+    o[i + 2] = c;
+    o[i + 3] = d;
+  }
+  for (; i < n; i++) o[i] = lut[pixels[i]];
   return out;
 }
 

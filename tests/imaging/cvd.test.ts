@@ -94,6 +94,15 @@ describe("simulateCvd", () => {
     expect(simulateCvd(copy, "protanopia", 0)).toEqual(copy);
   });
 
+  test("gives the same result through the byte path (unaligned data) as through the word path", () => {
+    const next = rng(3);
+    const buffer = new Uint8ClampedArray(4 * 1000 + 1);
+    for (let i = 0; i < buffer.length; i++) buffer[i] = Math.floor(next() * 256);
+    const unaligned = buffer.subarray(1); // byteOffset 1: the word path cannot be used
+    const aligned = Uint8ClampedArray.from(unaligned);
+    expect([...simulateCvd(unaligned, "protanopia", 0.7)]).toEqual([...simulateCvd(aligned, "protanopia", 0.7)]);
+  });
+
   test("rejects severities outside 0 … 1", () => {
     expect(() => simulateCvd(new Uint8ClampedArray(4), "tritanopia", 1.5)).toThrow(RangeError);
   });
