@@ -87,10 +87,14 @@ export async function pixelBenches(): Promise<Row[]> {
     const s = plane.slice().sort();
     use(s[N >> 1]);
   }, 3);
+  const sort64Ms = time(() => {
+    const s = Float64Array.from(plane).sort();
+    use(s[N >> 1]);
+  }, 3);
   rows.push({
     bench: "7 percentiles from the histogram vs sorting a copy",
-    baseline: `Uint16Array slice + sort ${f(sortMs)}`,
-    measured: `percentiles() walk of 65,536 bins ${f(pctMs)}`,
+    baseline: `Uint16Array slice + sort ${f(sortMs)} (ratio vs this, the faster sort); Float64Array copy + sort ${f(sort64Ms)}`,
+    measured: `percentiles() walk of 65,536 bins ${f(pctMs)} (${Math.round(sortMs / pctMs)}× faster)`,
     ratio: pctMs / sortMs,
     target: "≥ 1,000× faster (ratio ≤ 0.001)",
     met: pctMs / sortMs <= 0.001,

@@ -18,6 +18,7 @@ import { decodePlane } from "@/lib/tiff/decode";
 import { fileSource } from "@/lib/tiff/file-source";
 import { readTiffHeader, readTiffStructure } from "@/lib/tiff/structure";
 import { createTiffWriter, type TiffWriteOptions } from "@/lib/tiff/writer";
+import { pixelBenches } from "./pixels";
 
 const SIDE = 2048;
 const PLANE_BYTES = SIDE * SIDE * 2;
@@ -244,6 +245,7 @@ async function main(): Promise<void> {
     await statsVsPlainRead(dir, planes);
     await bytesToOpenLastPlane(dir);
     percentilesVsSort(planes[0]);
+    rows.push(...(await pixelBenches()));
   } finally {
     await rm(dir, { recursive: true, force: true });
   }
