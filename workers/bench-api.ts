@@ -2,7 +2,11 @@
 // offset (through a byte-budgeted cache), histogram + statistics, map and composite to RGBA. The
 // worker entry (bench.worker.ts) only exposes this over comlink, so Node tests call the same code.
 import { statsFromHistogram, histogram16, type HistogramStats } from "../lib/imaging/histogram";
-import { compositeAdditive, mapToLevels } from "../lib/imaging/mapping";
+import { clipMarkRgbaLut } from "../lib/imaging/clip-marks";
+import { findTable, singleHueTable } from "../lib/imaging/colour-tables";
+import { compositeAdd, compositeMax } from "../lib/imaging/composite";
+import { simulateCvd, type CvdKind } from "../lib/imaging/cvd";
+import { buildLut, buildRgbaLut, packRgba } from "../lib/imaging/lut";
 import { percentiles as percentilesFromHistogram } from "../lib/imaging/percentile";
 import { PlaneCache } from "../lib/imaging/plane-cache";
 import { compactHistogram, type CompactHistogram } from "../lib/imaging/summary";
@@ -46,6 +50,9 @@ export interface ChannelView {
   white: number;
   /** Display colour, 0…255 each: a single-hue ramp from black to this colour. */
   colour: [number, number, number];
+  gamma?: number;
+  /** A built-in colour table instead of the single-hue ramp. */
+  tableId?: string | null;
 }
 
 export interface BenchView {
@@ -54,6 +61,8 @@ export interface BenchView {
   /** Every channel listed is decoded and gets statistics; only visible ones are drawn. */
   channels: readonly ChannelView[];
   composite: "add" | "max";
+  clipMarks?: { high: string; low: string } | null;
+  cvd?: CvdKind | null;
 }
 
 export interface ChannelPlaneStats extends Omit<HistogramStats, "countAtCeiling"> {
@@ -130,44 +139,45 @@ function both(a: AbortSignal | undefined, b: AbortSignal): AbortSignal {
   return a ? AbortSignal.any([a, b]) : b;
 }
 
+export interface RenderLayer {
+  pixels: Uint8Array | Uint16Array;
+  black: number;
+  white: number;
+  colour: readonly [number, number, number];
+  /** Non-linear display only when set and not 1 (level = 255·t^gamma). */
+  gamma?: number;
+  /** A built-in colour table (lib/imaging/colour-tables.ts); otherwise a ramp from black to `colour`. */
+  tableId?: string | null;
+}
+
+export interface RenderOptions {
+  ceiling: number;
+  /** Pixels at the ceiling in `high`, at or below the black point in `low` (hex colours). */
+  clipMarks?: { high: string; low: string } | null;
+  cvd?: CvdKind | null;
+}
+
 /**
- * The render step: channels mapped linearly black → 0 … white → 255 (mapping.ts rounding) and
- * blended additively (clamped) or by per-component maximum. Kept on its own so faster table-based
- * mapping can replace it without touching decode or caching.
+ * The render step: each channel's raw value → RGBA through one 65,536-entry table (level table of
+ * lut.ts fused with its colour table, clipping marks written in), blended additively with per-lane
+ * saturation or by per-lane maximum (composite.ts), then an optional colour-vision simulation.
  */
-export function renderLayers(
-  layers: readonly { pixels: Uint8Array | Uint16Array; black: number; white: number; colour: readonly [number, number, number] }[],
-  length: number,
-  mode: "add" | "max",
-): Uint8ClampedArray {
-  if (mode === "add") {
-    return compositeAdditive(
-      layers.map((l) => ({ pixels: l.pixels, mapping: { black: l.black, white: l.white, colour: [l.colour[0], l.colour[1], l.colour[2]] } })),
-      length,
-    );
-  }
-  const rgba = new Uint8ClampedArray(length * 4);
-  const levels = new Uint8Array(length);
-  // Float maxima then one clamped store, the same rounding as the additive path.
-  const best = new Float32Array(length * 3);
-  for (const l of layers) {
-    mapToLevels(l.pixels, l.black, l.white, levels);
-    const [r, g, b] = l.colour;
-    for (let i = 0; i < length; i++) {
-      const k = levels[i] / 255;
-      const j = i * 3;
-      best[j] = Math.max(best[j], k * r);
-      best[j + 1] = Math.max(best[j + 1], k * g);
-      best[j + 2] = Math.max(best[j + 2], k * b);
-    }
-  }
-  for (let i = 0; i < length; i++) {
-    rgba[i * 4] = best[i * 3];
-    rgba[i * 4 + 1] = best[i * 3 + 1];
-    rgba[i * 4 + 2] = best[i * 3 + 2];
-    rgba[i * 4 + 3] = 255;
-  }
-  return rgba;
+export function renderLayers(layers: readonly RenderLayer[], length: number, mode: "add" | "max", options: RenderOptions = { ceiling: 65535 }): Uint8ClampedArray {
+  const ceiling = Math.min(65535, Math.max(1, Math.round(options.ceiling)));
+  const out = new Uint32Array(length);
+  const channels = layers.map((l) => {
+    const white = Math.max(l.white, l.black + 1);
+    const lut = buildLut({ black: l.black, white, gamma: l.gamma }, Math.max(ceiling, Math.ceil(white)));
+    const table = (l.tableId && findTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
+    let rgbaLut = buildRgbaLut(lut, table);
+    if (options.clipMarks) rgbaLut = clipMarkRgbaLut(rgbaLut, { highFrom: ceiling, lowTo: Math.floor(l.black) }, options.clipMarks.high, options.clipMarks.low);
+    return { pixels: l.pixels, rgbaLut };
+  });
+  if (channels.length === 0) out.fill(packRgba(0, 0, 0, 255));
+  else if (mode === "add") compositeAdd(channels, out);
+  else compositeMax(channels, out);
+  const rgba = new Uint8ClampedArray(out.buffer);
+  return options.cvd ? simulateCvd(rgba, options.cvd) : rgba;
 }
 
 export interface BenchApi {
@@ -279,9 +289,9 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       throwIfAborted(sig);
       const length = s.args.width * s.args.height;
       const layers = view.channels.flatMap((ch, i) =>
-        ch.visible ? [{ pixels: loaded[i].data, black: ch.black, white: ch.white, colour: ch.colour }] : [],
+        ch.visible ? [{ pixels: loaded[i].data, black: ch.black, white: ch.white, colour: ch.colour, gamma: ch.gamma, tableId: ch.tableId }] : [],
       );
-      const rgba = renderLayers(layers, length, view.composite);
+      const rgba = renderLayers(layers, length, view.composite, { ceiling: s.args.ceiling, clipMarks: view.clipMarks, cvd: view.cvd });
       return {
         z: view.z,
         t: view.t,

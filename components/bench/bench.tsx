@@ -8,6 +8,10 @@ import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { api } from "@/lib/client/api";
 import { useDataset } from "@/lib/client/datasets";
 import { useBenchWorker } from "@/lib/client/use-bench-worker";
+import { chooseMarkColours } from "@/lib/imaging/clip-marks";
+import { CVD_WARNING_THRESHOLD, minPairDistance } from "@/lib/imaging/colour-difference";
+import { findTable, safeChannelColours, singleHueTable, toHex } from "@/lib/imaging/colour-tables";
+import type { CvdKind } from "@/lib/imaging/cvd";
 import { hexToRgb } from "@/lib/imaging/palettes";
 import type { BenchPlaneRef, BenchRender, RawValue } from "@/workers/bench-api";
 import { ChannelCard, type ChannelState } from "./channel-card";
@@ -43,6 +47,8 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [t, setT] = useState(() => Number(search.get("t") ?? 0) || 0);
   const [channels, setChannels] = useState<ChannelState[] | null>(null);
   const [composite, setComposite] = useState<"add" | "max">("add");
+  const [marks, setMarks] = useState(false);
+  const [cvd, setCvd] = useState<CvdKind | null>(null);
   const [log, setLog] = useState(true);
   const [range, setRange] = useState<"ceiling" | "data">("ceiling");
   const [playing, setPlaying] = useState(false);
@@ -55,7 +61,11 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [help, setHelp] = useState(false);
   const [fitting, setFitting] = useState<number | null>(null);
   const [firstDrawMs, setFirstDrawMs] = useState<number | null>(null);
-  const started = useRef(performance.now());
+  // Set once on mount: the time from opening the bench to the first drawn plane is shown to the user.
+  const started = useRef(0);
+  useEffect(() => {
+    started.current = performance.now();
+  }, []);
   const viewport = useRef<ViewportHandle>(null);
   const storageKey = `bench:${datasetId}`;
 
@@ -71,9 +81,9 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
           const s = channelStats.find((x) => x.c === c);
           const black = Math.round(s?.percentiles?.["0.1"] ?? 0);
           const white = Math.max(black + 1, Math.round(s?.percentiles?.["99.9"] ?? d.ceiling ?? 65535));
-          return { c, name: ch.name, colour: ch.colour.toLowerCase(), visible: true, black, white };
+          return { c, name: ch.name, colour: ch.colour.toLowerCase(), visible: true, black, white, gamma: 1, tableId: null };
         });
-        const base = saved && saved.length === defaults.length ? saved : defaults;
+        const base = saved && saved.length === defaults.length ? saved.map((ch) => ({ ...ch, gamma: ch.gamma ?? 1, tableId: ch.tableId ?? null })) : defaults;
         setChannels(visibleFromUrl ? base.map((ch) => ({ ...ch, visible: visibleFromUrl.includes(ch.c) })) : base);
       });
   }, [datasetQuery.data, channels, search, storageKey]);
@@ -106,6 +116,27 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
       .catch((e: unknown) => setError(e instanceof Error ? e.message : String(e)));
   }, [bench, dataset, planesQuery.data, opened, datasetId, ceiling]);
 
+  // Clipping-mark colours are chosen, not fixed: the candidates farthest (CIEDE2000) from every colour
+  // on screen, so the marks stay visible whatever the mapping (LOOK.md).
+  const markColours = useMemo(() => {
+    const visible = (channels ?? []).filter((c) => c.visible);
+    const tables = visible.map((c) => (c.tableId && findTable(c.tableId)) || singleHueTable(c.colour));
+    const choice = chooseMarkColours(tables, visible.map((c) => c.colour));
+    return { high: toHex(choice.high), low: toHex(choice.low) };
+  }, [channels]);
+
+  // Channel colours must stay apart under every colour-vision deficiency. Compared on hue and chroma
+  // (lightness ignored): in an overlay each channel's brightness follows its signal, so lightness
+  // cannot tell channels apart. Threshold: CVD_WARNING_THRESHOLD ΔE00 (our choice, documented).
+  const cvdWarning = useMemo(() => {
+    const visible = (channels ?? []).filter((c) => c.visible && !c.tableId);
+    if (visible.length < 2) return null;
+    const result = minPairDistance(visible.map((c) => c.colour), { lightness: "ignore" });
+    if (result.distance >= CVD_WARNING_THRESHOLD || !result.pair) return null;
+    const [a, b] = result.pair;
+    return `${visible[a].name} and ${visible[b].name} are hard to tell apart${result.vision === "normal" ? "" : ` with ${result.vision}`} (ΔE00 ${result.distance.toFixed(1)} < ${CVD_WARNING_THRESHOLD}).`;
+  }, [channels]);
+
   // Render whenever the plane or a mapping changes; a newer render supersedes (aborts) an older one.
   useEffect(() => {
     if (!opened || !channels) return;
@@ -115,7 +146,9 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         z,
         t,
         composite,
-        channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, black: ch.black, white: ch.white, colour: hexToRgb(ch.colour) })),
+        clipMarks: marks ? markColours : null,
+        cvd,
+        channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, black: ch.black, white: ch.white, colour: hexToRgb(ch.colour), gamma: ch.gamma, tableId: ch.tableId })),
       })
       .then((result) => {
         if (stale) return;
@@ -131,7 +164,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     return () => {
       stale = true;
     };
-  }, [bench, opened, channels, z, t, composite]);
+  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd]);
 
   // Playback: advance t at the chosen rate, prefetching the next time points.
   useEffect(() => {
@@ -212,10 +245,13 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
 
   const chips = useMemo(() => {
     const list: string[] = [];
+    for (const c of channels ?? []) if (c.visible && c.gamma !== 1) list.push(`${c.name}: gamma ${c.gamma} (non-linear)`);
+    if (marks) list.push("clipping marks on");
+    if (cvd) list.push(`colour-vision preview: ${cvd}`);
     if (composite === "max") list.push("maximum blend");
     if (channels?.some((c) => !c.visible)) list.push(`${channels.filter((c) => c.visible).length} of ${channels.length} channels`);
     return list;
-  }, [composite, channels]);
+  }, [composite, channels, marks, cvd]);
 
   if (datasetQuery.isPending) return <p className="text-sm text-paper-700">Loading dataset…</p>;
   if (datasetQuery.isError || !dataset) return <p role="alert" className="text-sm text-fault-700">{datasetQuery.error?.message ?? "Dataset not found."}</p>;
@@ -257,6 +293,25 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             <select value={composite} onChange={(e) => setComposite(e.target.value as "add" | "max")} className="rounded border border-graphite-600 bg-graphite-900 px-1 py-0.5 text-xs">
               <option value="add">additive</option>
               <option value="max">maximum</option>
+            </select>
+          </label>
+          <label className="flex items-center gap-1 text-xs text-graphite-200">
+            <input type="checkbox" checked={marks} onChange={(e) => setMarks(e.target.checked)} className="accent-flux-500" />
+            Clipping marks
+            {marks && (
+              <span className="ml-1 flex items-center gap-1" aria-label={`Ceiling marked ${markColours.high}, at or below black marked ${markColours.low}`}>
+                <span className="inline-block h-2.5 w-2.5 rounded-sm" style={{ background: markColours.high }} /> ceiling
+                <span className="inline-block h-2.5 w-2.5 rounded-sm" style={{ background: markColours.low }} /> ≤ black
+              </span>
+            )}
+          </label>
+          <label className="flex items-center gap-1 text-xs text-graphite-200">
+            Colour vision
+            <select value={cvd ?? ""} onChange={(e) => setCvd((e.target.value || null) as CvdKind | null)} className="rounded border border-graphite-600 bg-graphite-900 px-1 py-0.5 text-xs">
+              <option value="">normal</option>
+              <option value="protanopia">protanopia</option>
+              <option value="deuteranopia">deuteranopia</option>
+              <option value="tritanopia">tritanopia</option>
             </select>
           </label>
           <Link href={`/labs/${labId}/datasets/${datasetId}/details`} className="text-xs text-graphite-200 underline hover:text-white">
@@ -303,7 +358,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             )}
           </div>
         </div>
-        <aside className="w-80 shrink-0 space-y-3 overflow-y-auto border-l border-graphite-700 p-3" aria-label="Channels">
+        <aside className="w-[22rem] shrink-0 space-y-3 overflow-y-auto border-l border-graphite-700 p-3" aria-label="Channels">
           <div className="flex items-center justify-between text-xs text-graphite-200">
             <span className="font-semibold uppercase tracking-wide">Channels</span>
             <label className="flex items-center gap-1">
@@ -315,6 +370,24 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               Data range
             </label>
           </div>
+          {cvdWarning && (
+            <div role="alert" className="rounded border border-[#ffd180]/50 bg-graphite-800 p-2 text-xs text-[#ffd180]">
+              {cvdWarning}{" "}
+              <button
+                type="button"
+                className="mt-1 block rounded bg-graphite-700 px-2 py-0.5 text-white hover:bg-graphite-600"
+                onClick={() =>
+                  setChannels((all) => {
+                    if (!all) return all;
+                    const safe = safeChannelColours(all.length);
+                    return all.map((ch, i) => ({ ...ch, colour: safe[i].toLowerCase(), tableId: null }));
+                  })
+                }
+              >
+                Use colour-blind-safe colours
+              </button>
+            </div>
+          )}
           {channels?.map((ch) => (
             <ChannelCard
               key={ch.c}
@@ -331,7 +404,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             />
           ))}
           <p className="text-[11px] leading-snug text-graphite-300">
-            Mappings change only the display; the stored counts are never changed. Fit uses the {FIT_LOW} % and {FIT_HIGH} % points of this plane&apos;s exact histogram.
+            Mappings change only the display; the stored counts are never changed. Colour-vision preview simulates Machado, Oliveira &amp; Fernandes (2009). Fit uses the {FIT_LOW} % and {FIT_HIGH} % points of this plane&apos;s exact histogram.
           </p>
         </aside>
       </div>

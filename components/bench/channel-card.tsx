@@ -1,5 +1,6 @@
 "use client";
 
+import { builtInTables } from "@/lib/imaging/colour-tables";
 import type { ChannelPlaneStats } from "@/workers/bench-api";
 import { HistogramPlot } from "./histogram-plot";
 
@@ -10,7 +11,14 @@ export interface ChannelState {
   visible: boolean;
   black: number;
   white: number;
+  /** 1 = linear. Anything else is a non-linear display mapping and is flagged on the image. */
+  gamma: number;
+  /** A built-in colour table, or null for a ramp from black to the channel colour. */
+  tableId: string | null;
 }
+
+// Grey and the perceptually uniform tables; single-hue ramps come from the channel colour itself.
+const tableChoices = builtInTables.filter((t) => t.kind !== "single-hue");
 
 interface Props {
   channel: ChannelState;
@@ -109,6 +117,35 @@ export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, o
             Full
           </button>
         </span>
+      </div>
+      <div className="mt-2 flex items-end gap-2">
+        <label className="flex min-w-0 flex-1 flex-col text-[11px] text-graphite-200">
+          Colour table
+          <select
+            value={channel.tableId ?? ""}
+            onChange={(e) => onChange({ tableId: e.target.value || null })}
+            className="mt-0.5 w-full min-w-0 rounded border border-graphite-600 bg-graphite-950 px-1 py-0.5 text-xs text-graphite-50"
+          >
+            <option value="">Ramp to channel colour</option>
+            {tableChoices.map((t) => (
+              <option key={t.id} value={t.id}>
+                {t.name}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-[11px] text-graphite-200">
+          Gamma{channel.gamma !== 1 && <span className="text-[#ffd180]"> non-linear</span>}
+          <input
+            type="number"
+            min={0.1}
+            max={5}
+            step={0.1}
+            value={channel.gamma}
+            onChange={(e) => Number.isFinite(e.target.valueAsNumber) && e.target.valueAsNumber > 0 && onChange({ gamma: Math.min(5, e.target.valueAsNumber) })}
+            className="num mt-0.5 w-16 rounded border border-graphite-600 bg-graphite-950 px-1.5 py-0.5 text-right text-sm text-graphite-50"
+          />
+        </label>
       </div>
       {stats && (
         <p className="num mt-2 text-[11px] leading-relaxed text-graphite-200" aria-label={`Plane statistics of ${channel.name}`}>

@@ -85,6 +85,43 @@ describe("the bench", () => {
     await expect.poll(() => plot.getAttribute("aria-label")).not.toContain("log count axis");
   });
 
+  it("warns that red and green channels merge for colour-blind readers and offers a safe set", async () => {
+    const page = person.page;
+    // The file's OME-XML colours are pure red and pure green: the classic problem pair (Wong 2011).
+    const warning = page.getByRole("alert").filter({ hasText: "hard to tell apart" });
+    await warning.waitFor();
+    await warning.getByRole("button", { name: "Use colour-blind-safe colours" }).click();
+    await expect.poll(() => warning.count()).toBe(0);
+    // Magenta/green for two channels (Wong 2011; lib/imaging/colour-tables.ts).
+    await expect(page.getByLabel("Colour of nuclei").inputValue()).resolves.toBe("#ff00ff");
+    await expect(page.getByLabel("Colour of membrane").inputValue()).resolves.toBe("#00ff00");
+  });
+
+  it("paints pixels at the ceiling in the high mark colour and flags non-linear and simulated views", async () => {
+    const page = person.page;
+    await page.getByRole("region", { name: "Channel membrane" }).getByRole("button", { name: "Solo" }).click();
+    await page.getByLabel("Clipping marks").check();
+    const legend = page.getByLabel(/^Ceiling marked #/);
+    await legend.waitFor();
+    const high = (await legend.getAttribute("aria-label"))!.match(/Ceiling marked (#[0-9a-fA-F]{6})/)![1].toLowerCase();
+    // In the fixture, membrane pixels (x 0…6, y 0…2) of z 0, t 0 are at the 4095 ceiling.
+    await expect
+      .poll(async () =>
+        page.getByLabel("Image plane").evaluate((canvas: HTMLCanvasElement) => {
+          const [r, g, b] = canvas.getContext("2d")!.getImageData(1, 1, 1, 1).data;
+          return `#${[r, g, b].map((v) => v.toString(16).padStart(2, "0")).join("")}`;
+        }),
+      )
+      .toBe(high);
+    await page.getByRole("region", { name: "Channel membrane" }).getByRole("spinbutton", { name: "Gamma" }).fill("0.8");
+    await page.getByText("membrane: gamma 0.8 (non-linear)").waitFor();
+    await page.getByLabel("Colour vision").selectOption("deuteranopia");
+    await page.getByText("colour-vision preview: deuteranopia").waitFor();
+    await screenshot(page, "bench-03-marks-gamma-cvd");
+    await page.getByLabel("Colour vision").selectOption("");
+    await page.getByLabel("Clipping marks").uncheck();
+  });
+
   it("plays through time points and keeps the plane in the address", async () => {
     const page = person.page;
     await page.getByRole("button", { name: "▶ Play" }).click();
