@@ -18,8 +18,11 @@ import { ChannelCard, type ChannelState } from "./channel-card";
 import { HelpOverlay } from "./help-overlay";
 import { Viewport, type ViewportHandle } from "./viewport";
 
+// Default Fit percentiles (percent of pixels below the black / white point); editable on the bench.
 const FIT_LOW = 0.1;
 const FIT_HIGH = 99.9;
+// Percentiles stored at ingest for the whole stack (lib/imaging/percentile.ts STANDARD_PERCENTILES).
+const STACK_PERCENTILES = ["0.01", "0.1", "1", "50", "99", "99.9", "99.99"];
 
 function formatTime(seconds: number): string {
   const h = Math.floor(seconds / 3600);
@@ -48,6 +51,11 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [channels, setChannels] = useState<ChannelState[] | null>(null);
   const [composite, setComposite] = useState<"add" | "max">("add");
   const [marks, setMarks] = useState(false);
+  const [fitLow, setFitLow] = useState(FIT_LOW);
+  const [fitHigh, setFitHigh] = useState(FIT_HIGH);
+  const [fitScope, setFitScope] = useState<"plane" | "stack">("plane");
+  const [showScaleBar, setShowScaleBar] = useState(true);
+  const [showTime, setShowTime] = useState(false);
   const [cvd, setCvd] = useState<CvdKind | null>(null);
   const [log, setLog] = useState(true);
   const [range, setRange] = useState<"ceiling" | "data">("ceiling");
@@ -191,19 +199,34 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     setChannels((all) => all?.map((ch) => (ch.c === c ? { ...ch, ...patch } : ch)) ?? all);
   }, []);
 
+  // Fit: black and white points at two percentiles of the exact integer histogram, of this plane
+  // (computed in the worker) or of the whole stack (stored at ingest); black rounds down, white up.
   const fit = useCallback(
     async (c: number) => {
       setFitting(c);
       try {
-        const [black, white] = await bench.percentiles(z, t, c, [FIT_LOW, FIT_HIGH]);
+        let black: number;
+        let white: number;
+        if (fitScope === "stack") {
+          const stored = datasetQuery.data?.channelStats.find((x) => x.c === c)?.percentiles ?? {};
+          const low = stored[String(fitLow)];
+          const high = stored[String(fitHigh)];
+          if (low === undefined || high === undefined) {
+            throw new Error(`Whole-stack Fit uses the percentiles stored at ingest: ${STACK_PERCENTILES.join(", ")} %.`);
+          }
+          [black, white] = [low, high];
+        } else {
+          [black, white] = await bench.percentiles(z, t, c, [fitLow, fitHigh]);
+        }
         updateChannel(c, { black: Math.floor(black), white: Math.max(Math.ceil(white), Math.floor(black) + 1) });
+        setError(null);
       } catch (e) {
         setError(e instanceof Error ? e.message : String(e));
       } finally {
         setFitting(null);
       }
     },
-    [bench, z, t, updateChannel],
+    [bench, z, t, updateChannel, fitScope, fitLow, fitHigh, datasetQuery.data],
   );
 
   const onPointer = useCallback(
@@ -296,6 +319,14 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             </select>
           </label>
           <label className="flex items-center gap-1 text-xs text-graphite-200">
+            <input type="checkbox" checked={showScaleBar} onChange={(e) => setShowScaleBar(e.target.checked)} disabled={!pixelSize} className="accent-flux-500" />
+            Scale bar
+          </label>
+          <label className="flex items-center gap-1 text-xs text-graphite-200">
+            <input type="checkbox" checked={showTime} onChange={(e) => setShowTime(e.target.checked)} disabled={dataset.timeIncrement == null} className="accent-flux-500" />
+            Time stamp
+          </label>
+          <label className="flex items-center gap-1 text-xs text-graphite-200">
             <input type="checkbox" checked={marks} onChange={(e) => setMarks(e.target.checked)} className="accent-flux-500" />
             Clipping marks
             {marks && (
@@ -332,7 +363,12 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
                 </span>
               ))}
             </div>
-            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={pixelSize} onPointer={onPointer} />
+            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={showScaleBar ? pixelSize : null} onPointer={onPointer} />
+            {showTime && dataset.timeIncrement != null && (
+              <span className="num pointer-events-none absolute right-4 top-2 z-10 text-sm text-white" aria-label="Time stamp on the image">
+                {formatTime(t * dataset.timeIncrement)}
+              </span>
+            )}
             {!rendered && !error && <p className="absolute inset-0 grid place-items-center text-sm text-graphite-300">Reading the plane…</p>}
             {error && (
               <p role="alert" className="absolute inset-x-4 bottom-4 rounded bg-fault-700 px-3 py-2 text-sm text-white">
@@ -370,6 +406,17 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               Data range
             </label>
           </div>
+          <div className="flex flex-wrap items-center gap-1 text-[11px] text-graphite-200" aria-label="Fit settings">
+            Fit from
+            <input type="number" aria-label="Fit low percentile" min={0} max={50} step={0.01} value={fitLow} onChange={(e) => Number.isFinite(e.target.valueAsNumber) && setFitLow(Math.min(Math.max(e.target.valueAsNumber, 0), fitHigh - 0.01))} className="num w-14 rounded border border-graphite-600 bg-graphite-950 px-1 text-right" />
+            % to
+            <input type="number" aria-label="Fit high percentile" min={50} max={100} step={0.01} value={fitHigh} onChange={(e) => Number.isFinite(e.target.valueAsNumber) && setFitHigh(Math.max(Math.min(e.target.valueAsNumber, 100), fitLow + 0.01))} className="num w-14 rounded border border-graphite-600 bg-graphite-950 px-1 text-right" />
+            % of
+            <select aria-label="Fit over" value={fitScope} onChange={(e) => setFitScope(e.target.value as "plane" | "stack")} className="rounded border border-graphite-600 bg-graphite-950 px-1 py-0.5">
+              <option value="plane">this plane</option>
+              <option value="stack">the whole stack</option>
+            </select>
+          </div>
           {cvdWarning && (
             <div role="alert" className="rounded border border-[#ffd180]/50 bg-graphite-800 p-2 text-xs text-[#ffd180]">
               {cvdWarning}{" "}
@@ -404,7 +451,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             />
           ))}
           <p className="text-[11px] leading-snug text-graphite-300">
-            Mappings change only the display; the stored counts are never changed. Colour-vision preview simulates Machado, Oliveira &amp; Fernandes (2009). Fit uses the {FIT_LOW} % and {FIT_HIGH} % points of this plane&apos;s exact histogram.
+            Mappings change only the display; the stored counts are never changed. Colour-vision preview simulates Machado, Oliveira &amp; Fernandes (2009). Fit uses exact percentiles of the integer histogram (Hyndman &amp; Fan type 7), never a sort or a display value.
           </p>
         </aside>
       </div>

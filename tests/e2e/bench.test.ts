@@ -75,6 +75,29 @@ describe("the bench", () => {
     const white = Math.ceil(ref.percentiles[PERCENTS.indexOf(99.9)]);
     await expect.poll(() => card.getByRole("spinbutton", { name: "Black point" }).inputValue()).toBe(String(black));
     await expect.poll(() => card.getByRole("spinbutton", { name: "White point" }).inputValue()).toBe(String(white));
+
+    // Over the whole stack: the percentiles stored at ingest for channel 0 (numpy on all its planes).
+    await page.getByLabel("Fit over").selectOption("stack");
+    await card.getByRole("button", { name: "Fit" }).click();
+    const stack = fixture.ref.channel0;
+    await expect.poll(() => card.getByRole("spinbutton", { name: "Black point" }).inputValue()).toBe(String(Math.floor(stack.percentiles[PERCENTS.indexOf(0.1)])));
+    await expect.poll(() => card.getByRole("spinbutton", { name: "White point" }).inputValue()).toBe(String(Math.ceil(stack.percentiles[PERCENTS.indexOf(99.9)])));
+    // A percentile that was not stored at ingest is refused with an explanation, not approximated.
+    await page.getByLabel("Fit high percentile").fill("99.5");
+    await card.getByRole("button", { name: "Fit" }).click();
+    await page.getByRole("alert").filter({ hasText: "Whole-stack Fit uses the percentiles stored at ingest" }).waitFor();
+    await page.getByLabel("Fit high percentile").fill("99.9");
+    await page.getByLabel("Fit over").selectOption("plane");
+  });
+
+  it("shows and hides the scale bar and the time stamp", async () => {
+    const page = person.page;
+    await page.getByLabel(/^Scale bar \d/).waitFor();
+    await page.getByRole("checkbox", { name: "Scale bar" }).uncheck();
+    await expect.poll(() => page.getByLabel(/^Scale bar \d/).count()).toBe(0);
+    await page.getByRole("checkbox", { name: "Scale bar" }).check();
+    await page.getByRole("checkbox", { name: "Time stamp" }).check();
+    await expect(page.getByLabel("Time stamp on the image").textContent()).resolves.toBe("00:00:00");
   });
 
   it("toggles the log count axis of the histograms", async () => {
