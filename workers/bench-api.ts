@@ -1,10 +1,17 @@
 // The bench's pixel pipeline, as plain functions over a ByteSource: decode a plane by its stored IFD
 // offset (through a byte-budgeted cache), histogram + statistics, map and composite to RGBA. The
 // worker entry (bench.worker.ts) only exposes this over comlink, so Node tests call the same code.
+//
+// Flat/dark correction for display (setCorrection + BenchView.correction): corrected = (raw − dark)
+// / (flat − dark) × mean(flat − dark) in floating point (Murphy & Davidson, "Fundamentals of Light
+// Microscopy and Electronic Imaging", flat-field correction; shared/reference/FACTS.md), through
+// lib/imaging/correction.ts. Corrected planes are separate Float32Arrays kept in the same budgeted
+// cache under their own keys; the decoded raw planes are only read, and nothing is written back.
 import { statsFromHistogram, histogram16, type HistogramStats } from "../lib/imaging/histogram";
 import { clipMarkRgbaLut } from "../lib/imaging/clip-marks";
-import { findTable, singleHueTable } from "../lib/imaging/colour-tables";
-import { compositeAdd, compositeMax } from "../lib/imaging/composite";
+import { findTable, parseHex, singleHueTable } from "../lib/imaging/colour-tables";
+import { addSaturate, compositeAdd, compositeMax, maxLanes } from "../lib/imaging/composite";
+import { flatDarkCorrect, floatHistogram, floatPercentiles, mapFloatToRgba } from "../lib/imaging/correction";
 import { simulateCvd, type CvdKind } from "../lib/imaging/cvd";
 import { buildLut, buildRgbaLut, packRgba } from "../lib/imaging/lut";
 import { percentiles as percentilesFromHistogram } from "../lib/imaging/percentile";
@@ -63,14 +70,38 @@ export interface BenchView {
   composite: "add" | "max";
   clipMarks?: { high: string; low: string } | null;
   cvd?: CvdKind | null;
+  /**
+   * Show flat/dark-corrected values (needs setCorrection with frames; without them the view is raw
+   * and the stats carry no `corrected` flag). Black and white points are then corrected values.
+   */
+  correction?: boolean;
+  /** "#RRGGBB" for pixels whose correction is invalid (flat − dark ≤ epsilon). Default DEFAULT_INVALID_COLOUR. */
+  invalidColour?: string;
+}
+
+/** Where the histogram of corrected values starts: its bins cover start + i·binWidth … start + (i+1)·binWidth. */
+export interface ChannelHistogram extends CompactHistogram {
+  /** Lower edge of bin 0; absent (0) for raw counts. */
+  start?: number;
 }
 
 export interface ChannelPlaneStats extends Omit<HistogramStats, "countAtCeiling"> {
   c: number;
   ifdIndex: number;
   median: number;
+  /**
+   * Raw pixels at the ceiling (and `countAtZero`: raw pixels at 0), also on a corrected view:
+   * saturation is a property of the measurement, not of the corrected value.
+   */
   countAtCeiling: number;
-  hist: CompactHistogram;
+  hist: ChannelHistogram;
+  /**
+   * Present on a corrected view: count, min, max, mean, sd, median and hist are of the corrected
+   * values of the valid pixels (hist over their min … max, in `histogramBins` equal bins).
+   */
+  corrected?: true;
+  /** Pixels whose correction is invalid (flat − dark ≤ epsilon); present on a corrected view. */
+  invalid?: number;
 }
 
 export interface BenchRender {
@@ -87,6 +118,34 @@ export interface RawValue {
   c: number;
   /** The stored count, never a display level. */
   value: number;
+  /** The flat/dark-corrected value when a correction is set; null where it is invalid. */
+  corrected?: number | null;
+}
+
+/** One plane of a flat-field or dark frame: a dataset of the lab, opened by its stored IFD offset. */
+export interface CorrectionFrameRef {
+  /** The datasets file endpoint of the frame's dataset. */
+  fileUrl: string;
+  size?: number;
+  ifdOffset: number;
+  /** The frame's size as stored at ingest; must equal the open dataset's. */
+  width: number;
+  height: number;
+}
+
+export interface CorrectionArgs {
+  flat: CorrectionFrameRef;
+  dark: CorrectionFrameRef;
+  /** Pixels with flat − dark ≤ epsilon (counts) are invalid, not divided. Default DEFAULT_EPSILON. */
+  epsilon?: number;
+}
+
+export interface CorrectionInfo {
+  /** Pixels where flat − dark ≤ epsilon. */
+  invalid: number;
+  /** mean(flat − dark) over the valid pixels: the factor that keeps the original scale. */
+  scale: number;
+  epsilon: number;
 }
 
 export interface BenchCounters {
@@ -108,9 +167,37 @@ export interface BenchApiOptions {
 
 /** A decoded plane with its exact histogram (trimmed after the maximum) and statistics. */
 interface CachedPlane {
+  kind: "raw";
   data: Uint8Array | Uint16Array;
   hist: Uint32Array;
   stats: HistogramStats;
+}
+
+/** A flat-field or dark frame (a float master flat is allowed). */
+interface CachedFrame {
+  kind: "frame";
+  data: Uint8Array | Uint16Array | Float32Array;
+  width: number;
+  height: number;
+}
+
+/** A corrected plane (NaN where invalid) with the statistics of its valid values. */
+interface CorrectedPlane {
+  kind: "corrected";
+  data: Float32Array;
+  stats: Omit<ChannelPlaneStats, "c" | "ifdIndex" | "countAtCeiling" | "countAtZero">;
+}
+
+type CacheEntry = CachedPlane | CachedFrame | CorrectedPlane;
+
+interface Correction {
+  /** Generation: corrected planes are cached under it, so a new pair of frames never meets old planes. */
+  id: number;
+  flat: CachedFrame["data"];
+  dark: CachedFrame["data"];
+  epsilon: number;
+  invalid: number;
+  scale: number;
 }
 
 interface Session {
@@ -121,6 +208,9 @@ interface Session {
   channels: number[];
   /** Aborted by close(), so a render still running for a closed dataset stops. */
   controller: AbortController;
+  correction: Correction | null;
+  /** Counts setCorrection calls: only the latest may change `correction` (a slow load finishing late must not win). */
+  correctionRequests: number;
 }
 
 export class BenchError extends Error {
@@ -128,6 +218,16 @@ export class BenchError extends Error {
 }
 
 const DEFAULT_BUDGET = 512 * 1024 * 1024;
+
+/**
+ * Default epsilon, in counts: half a count. With whole-count frames this marks exactly the pixels
+ * where flat ≤ dark (no gain to divide by); a float master flat less than half a count above its
+ * dark is treated the same. Callers may raise it to exclude near-dead pixels.
+ */
+export const DEFAULT_EPSILON = 0.5;
+
+/** Mid grey: differs from black and white and from every saturated channel colour and mark candidate. */
+export const DEFAULT_INVALID_COLOUR = "#808080";
 
 const position = (c: number, z: number, t: number) => `${c}/${z}/${t}`;
 
@@ -180,26 +280,135 @@ export function renderLayers(layers: readonly RenderLayer[], length: number, mod
   return options.cvd ? simulateCvd(rgba, options.cvd) : rgba;
 }
 
+export interface CorrectedLayer {
+  /** Corrected values, NaN where invalid. */
+  values: Float32Array;
+  /** The raw plane the values came from: the high clipping mark is raw saturation (raw ≥ ceiling). */
+  raw: Uint8Array | Uint16Array;
+  /** In corrected units. */
+  black: number;
+  white: number;
+  colour: readonly [number, number, number];
+  gamma?: number;
+  tableId?: string | null;
+}
+
+/**
+ * The render step on corrected values: each channel through mapFloatToRgba (level = round(255 ·
+ * t^gamma), t = (v − black)/(white − black) clamped), clipping marks (high where the raw value is at
+ * the ceiling, low where the corrected value is at or below the black point), the same additive or
+ * maximum blend, the optional colour-vision simulation, and finally every invalid pixel (NaN in any
+ * layer) painted in `invalidColour` exactly, so blending never turns it into another colour.
+ */
+export function renderCorrectedLayers(
+  layers: readonly CorrectedLayer[],
+  length: number,
+  mode: "add" | "max",
+  options: RenderOptions & { invalidColour?: string },
+): Uint8ClampedArray {
+  const ceiling = Math.min(65535, Math.max(1, Math.round(options.ceiling)));
+  const out = new Uint32Array(length);
+  const black = packRgba(0, 0, 0, 255);
+  const invalidColour = packRgba(...parseHex(options.invalidColour ?? DEFAULT_INVALID_COLOUR));
+  const high = options.clipMarks ? packRgba(...parseHex(options.clipMarks.high)) : 0;
+  const low = options.clipMarks ? packRgba(...parseHex(options.clipMarks.low)) : 0;
+  const mapped = new Uint32Array(length);
+  layers.forEach((l, k) => {
+    if (l.values.length < length || l.raw.length < length) throw new RangeError(`A corrected layer holds fewer than ${length} pixels`);
+    const white = l.white > l.black ? l.white : l.black + 1;
+    const table = (l.tableId && findTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
+    // Invalid pixels are black here (they add nothing) and painted after the blend.
+    mapFloatToRgba(l.values, { black: l.black, white, gamma: l.gamma }, table, mapped, [0, 0, 0]);
+    if (options.clipMarks) {
+      for (let i = 0; i < length; i++) {
+        const v = l.values[i];
+        if (v !== v) continue;
+        if (l.raw[i] >= ceiling) mapped[i] = high;
+        else if (v <= l.black) mapped[i] = low;
+      }
+    }
+    if (k === 0) out.set(mapped.subarray(0, length));
+    else if (mode === "add") for (let i = 0; i < length; i++) out[i] = addSaturate(out[i], mapped[i]);
+    else for (let i = 0; i < length; i++) out[i] = maxLanes(out[i], mapped[i]);
+  });
+  if (layers.length === 0) out.fill(black);
+  let rgba = new Uint8ClampedArray(out.buffer);
+  if (options.cvd) rgba = simulateCvd(rgba, options.cvd);
+  if (layers.length > 0) {
+    const words = new Uint32Array(rgba.buffer, rgba.byteOffset, length);
+    for (const l of layers) {
+      for (let i = 0; i < length; i++) if (l.values[i] !== l.values[i]) words[i] = invalidColour;
+    }
+  }
+  return rgba;
+}
+
+/** Statistics of corrected values (NaN = invalid): one pass for the range, mean and sd (two-pass), exact median. */
+function correctedStats(values: Float32Array, bins: number): CorrectedPlane["stats"] {
+  let count = 0;
+  let sum = 0;
+  for (let i = 0; i < values.length; i++) {
+    const v = values[i];
+    if (v === v) {
+      count++;
+      sum += v;
+    }
+  }
+  const mean = count > 0 ? sum / count : NaN;
+  let squares = 0;
+  for (let i = 0; i < values.length; i++) {
+    const v = values[i];
+    if (v === v) squares += (v - mean) * (v - mean);
+  }
+  const h = floatHistogram(values, { bins });
+  const [median] = floatPercentiles(values, [50]);
+  return {
+    count,
+    min: count > 0 ? h.min : NaN,
+    max: count > 0 ? h.max : NaN,
+    mean,
+    sd: count > 0 ? Math.sqrt(squares / count) : NaN,
+    median,
+    hist: { binWidth: count > 0 ? h.binWidth : 1, counts: Array.from(h.counts), start: count > 0 ? h.min : 0 },
+    corrected: true,
+    invalid: values.length - count,
+  };
+}
+
 export interface BenchApi {
   open(args: BenchOpenArgs, signal?: AbortSignal): Promise<{ planes: number; channels: number[]; size: number }>;
   renderView(view: BenchView, signal?: AbortSignal): Promise<BenchRender>;
   readValues(z: number, t: number, x: number, y: number, signal?: AbortSignal): Promise<RawValue[]>;
   /** Decodes the planes of these time points (all channels, or those given) into the cache. */
   prefetch(z: number, ts: readonly number[], signal?: AbortSignal, channels?: readonly number[]): Promise<{ planes: number }>;
-  /** Exact percentiles (percent) of one plane from its integer histogram: Fit over "this plane". */
-  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal): Promise<number[]>;
+  /**
+   * Exact percentiles (percent) of one plane: Fit over "this plane". Raw: from its integer
+   * histogram. Corrected (by default whenever a correction is set; `corrected: false` asks for raw):
+   * exact type-7 percentiles of the corrected values, invalid pixels left out.
+   */
+  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal, options?: { corrected?: boolean }): Promise<number[]>;
+  /**
+   * Loads a flat-field and a dark frame (one plane each) for this dataset's session, or turns the
+   * correction off (null). On failure the previous correction stays as it was.
+   */
+  setCorrection(args: CorrectionArgs | null, signal?: AbortSignal): Promise<CorrectionInfo | null>;
   counters(): BenchCounters;
   close(): Promise<void>;
 }
 
 export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
   const openSource: OpenSource = options.openSource ?? ((url, o) => httpSource(url, o));
-  const cache = new PlaneCache<CachedPlane>({
+  const cache = new PlaneCache<CacheEntry>({
     budgetBytes: options.budgetBytes ?? DEFAULT_BUDGET,
-    sizeOf: (p) => p.data.byteLength + p.hist.byteLength,
+    sizeOf: (p) => p.data.byteLength + (p.kind === "raw" ? p.hist.byteLength : p.kind === "corrected" ? 8 * p.stats.hist.counts.length : 0),
   });
   let decodes = 0;
   let session: Session | null = null;
+  let generation = 0;
+
+  /** Cache "dataset" ids of the session's frames and corrected planes: prefixed by the dataset's, so close() clears them too. */
+  const frameSpace = (s: Session, ref: CorrectionFrameRef) => `${s.args.datasetId}:frame:${ref.fileUrl}@${ref.ifdOffset}`;
+  const correctedSpace = (s: Session, corr: Correction) => `${s.args.datasetId}:corrected${corr.id}`;
 
   function current(): Session {
     if (!session) throw new BenchError("No dataset is open on the bench");
@@ -228,10 +437,63 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
         // Bins above the maximum are all zero; dropping them saves up to 256 KiB per plane.
         const hist = full.slice(0, Number.isNaN(stats.max) ? 1 : stats.max + 1);
         decodes++;
-        return { data: plane.data, hist, stats };
+        return { kind: "raw" as const, data: plane.data, hist, stats };
       },
       signal,
-    );
+    ) as Promise<CachedPlane>;
+  }
+
+  async function loadFrame(s: Session, role: string, ref: CorrectionFrameRef, signal: AbortSignal): Promise<CachedFrame> {
+    const { width, height } = s.args;
+    if (ref.width !== width || ref.height !== height) {
+      throw new BenchError(`The ${role} frame is ${ref.width} × ${ref.height}; this dataset is ${width} × ${height}`);
+    }
+    const key = { datasetId: frameSpace(s, ref), ifdIndex: 0 };
+    const frame = (await cache.get(
+      key,
+      async (loadSignal) => {
+        const source = await openSource(ref.fileUrl, { size: ref.size, signal: loadSignal });
+        const header = await readTiffHeader(source, loadSignal);
+        const plane = await decodePlane(source, ref.ifdOffset, { header, signal: loadSignal });
+        throwIfAborted(loadSignal);
+        decodes++;
+        return { kind: "frame" as const, data: plane.data, width: plane.width, height: plane.height };
+      },
+      signal,
+    )) as CachedFrame;
+    if (frame.width !== width || frame.height !== height) {
+      cache.delete(key);
+      throw new BenchError(`The ${role} frame's file holds a ${frame.width} × ${frame.height} plane at that offset; this dataset is ${width} × ${height}`);
+    }
+    return frame;
+  }
+
+  /** The corrected plane of `ref` under correction `corr`, cached beside (never in place of) the raw plane. */
+  function loadCorrected(s: Session, corr: Correction, ref: BenchPlaneRef, signal: AbortSignal): Promise<CorrectedPlane> {
+    return cache.get(
+      { datasetId: correctedSpace(s, corr), ifdIndex: ref.ifdIndex },
+      async (loadSignal) => {
+        const raw = await load(s, ref, loadSignal);
+        throwIfAborted(loadSignal);
+        const data = new Float32Array(raw.data.length);
+        flatDarkCorrect(raw.data, corr.flat, corr.dark, data, { epsilon: corr.epsilon });
+        return { kind: "corrected" as const, data, stats: correctedStats(data, s.args.histogramBins ?? 256) };
+      },
+      signal,
+    ) as Promise<CorrectedPlane>;
+  }
+
+  /** The correction a call uses: `wanted` undefined means "whenever one is set". */
+  function correctionFor(s: Session, wanted: boolean | undefined): Correction | null {
+    if (wanted === false) return null;
+    if (wanted === true && !s.correction) throw new BenchError("No flat-field and dark frame are set for this dataset");
+    return s.correction;
+  }
+
+  /** The corrected value at pixel i, rounded to float32 like the corrected plane; null where invalid. */
+  function correctedAt(corr: Correction, raw: number, i: number): number | null {
+    const d = corr.flat[i] - corr.dark[i];
+    return d > corr.epsilon ? Math.fround(((raw - corr.dark[i]) / d) * corr.scale) : null;
   }
 
   async function close(): Promise<void> {
@@ -277,6 +539,8 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
         byPosition,
         channels: [...new Set(args.planes.map((p) => p.c))].sort((a, b) => a - b),
         controller: new AbortController(),
+        correction: null,
+        correctionRequests: 0,
       };
       return { planes: byPosition.size, channels: session.channels, size: source.size };
     },
@@ -288,6 +552,38 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       const loaded = await Promise.all(refs.map((ref) => load(s, ref, sig)));
       throwIfAborted(sig);
       const length = s.args.width * s.args.height;
+      const corr = view.correction ? s.correction : null;
+      if (corr) {
+        // Every listed channel gets corrected statistics (hidden ones too), so a histogram does not
+        // switch units when its channel is hidden.
+        const corrected = await Promise.all(refs.map((ref) => loadCorrected(s, corr, ref, sig)));
+        throwIfAborted(sig);
+        const layers = view.channels.flatMap((ch, i) =>
+          ch.visible
+            ? [{ values: corrected[i].data, raw: loaded[i].data, black: ch.black, white: ch.white, colour: ch.colour, gamma: ch.gamma, tableId: ch.tableId }]
+            : [],
+        );
+        const rgba = renderCorrectedLayers(layers, length, view.composite, {
+          ceiling: s.args.ceiling,
+          clipMarks: view.clipMarks,
+          cvd: view.cvd,
+          invalidColour: view.invalidColour,
+        });
+        return {
+          z: view.z,
+          t: view.t,
+          width: s.args.width,
+          height: s.args.height,
+          rgba,
+          channels: refs.map((ref, i) => ({
+            ...corrected[i].stats,
+            c: ref.c,
+            ifdIndex: ref.ifdIndex,
+            countAtZero: loaded[i].stats.countAtZero,
+            countAtCeiling: loaded[i].stats.countAtCeiling ?? 0,
+          })),
+        };
+      }
       const layers = view.channels.flatMap((ch, i) =>
         ch.visible ? [{ pixels: loaded[i].data, black: ch.black, white: ch.white, colour: ch.colour, gamma: ch.gamma, tableId: ch.tableId }] : [],
       );
@@ -310,7 +606,12 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       const sig = both(signal, s.controller.signal);
       const refs = s.channels.map((c) => planeAt(s, c, z, t));
       const loaded = await Promise.all(refs.map((ref) => load(s, ref, sig)));
-      return refs.map((ref, i) => ({ c: ref.c, value: loaded[i].data[y * s.args.width + x] }));
+      const i = y * s.args.width + x;
+      const corr = s.correction;
+      return refs.map((ref, k) => {
+        const value = loaded[k].data[i];
+        return corr ? { c: ref.c, value, corrected: correctedAt(corr, value, i) } : { c: ref.c, value };
+      });
     },
 
     async prefetch(z, ts, signal, channels) {
@@ -324,10 +625,49 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       return { planes: refs.length };
     },
 
-    async percentiles(z, t, c, ps, signal) {
+    async percentiles(z, t, c, ps, signal, options) {
       const s = current();
-      const p = await load(s, planeAt(s, c, z, t), both(signal, s.controller.signal));
+      const sig = both(signal, s.controller.signal);
+      const ref = planeAt(s, c, z, t);
+      const corr = correctionFor(s, options?.corrected);
+      if (corr) return floatPercentiles((await loadCorrected(s, corr, ref, sig)).data, ps);
+      const p = await load(s, ref, sig);
       return percentilesFromHistogram(p.hist, ps, p.stats.count);
+    },
+
+    async setCorrection(args, signal) {
+      const s = current();
+      const request = ++s.correctionRequests;
+      const drop = () => {
+        if (s.correction) cache.clear(correctedSpace(s, s.correction));
+      };
+      if (args === null) {
+        drop();
+        s.correction = null;
+        return null;
+      }
+      const epsilon = args.epsilon ?? DEFAULT_EPSILON;
+      if (!(Number.isFinite(epsilon) && epsilon >= 0)) throw new BenchError(`epsilon must be a finite number ≥ 0 (counts), got ${epsilon}`);
+      const sig = both(signal, s.controller.signal);
+      const [flat, dark] = await Promise.all([loadFrame(s, "flat-field", args.flat, sig), loadFrame(s, "dark", args.dark, sig)]);
+      throwIfAborted(sig);
+      if (request !== s.correctionRequests) throw new DOMException("Superseded by a newer correction", "AbortError");
+      // The same arithmetic flatDarkCorrect uses for its scale, so readValues matches the planes.
+      let sum = 0;
+      let valid = 0;
+      for (let i = 0; i < flat.data.length; i++) {
+        const d = flat.data[i] - dark.data[i];
+        if (d > epsilon) {
+          sum += d;
+          valid++;
+        }
+      }
+      if (valid === 0) {
+        throw new BenchError(`flat − dark is at most ${epsilon} counts at every pixel, so nothing can be corrected; are the flat-field and dark frames swapped?`);
+      }
+      drop();
+      s.correction = { id: ++generation, flat: flat.data, dark: dark.data, epsilon, invalid: flat.data.length - valid, scale: sum / valid };
+      return { invalid: s.correction.invalid, scale: s.correction.scale, epsilon };
     },
 
     counters() {
@@ -348,7 +688,8 @@ export interface BenchWorkerApi {
   renderView(view: BenchView, requestId?: number): Promise<BenchRender>;
   readValues(z: number, t: number, x: number, y: number, requestId?: number): Promise<RawValue[]>;
   prefetch(z: number, ts: readonly number[], requestId?: number, channels?: readonly number[]): Promise<{ planes: number }>;
-  percentiles(z: number, t: number, c: number, ps: readonly number[], requestId?: number): Promise<number[]>;
+  percentiles(z: number, t: number, c: number, ps: readonly number[], requestId?: number, options?: { corrected?: boolean }): Promise<number[]>;
+  setCorrection(args: CorrectionArgs | null, requestId?: number): Promise<CorrectionInfo | null>;
   cancel(requestId: number): void;
   counters(): BenchCounters;
   close(): Promise<void>;
@@ -373,7 +714,8 @@ export function cancellable(api: BenchApi): BenchWorkerApi {
     renderView: (view, id) => withRequest(id, (s) => api.renderView(view, s)),
     readValues: (z, t, x, y, id) => withRequest(id, (s) => api.readValues(z, t, x, y, s)),
     prefetch: (z, ts, id, channels) => withRequest(id, (s) => api.prefetch(z, ts, s, channels)),
-    percentiles: (z, t, c, ps, id) => withRequest(id, (s) => api.percentiles(z, t, c, ps, s)),
+    percentiles: (z, t, c, ps, id, options) => withRequest(id, (s) => api.percentiles(z, t, c, ps, s, options)),
+    setCorrection: (args, id) => withRequest(id, (s) => api.setCorrection(args, s)),
     cancel(requestId) {
       running.get(requestId)?.abort(new DOMException("Superseded by a newer request", "AbortError"));
     },

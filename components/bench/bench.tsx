@@ -174,10 +174,15 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     };
   }, [bench, opened, channels, z, t, composite, marks, markColours, cvd]);
 
-  // Playback: advance t at the chosen rate, prefetching the next time points.
+  // Playback is paced by drawn frames: the next time point is asked for once the current one is on
+  // screen and 1/rate seconds have passed. A fixed timer would supersede (abort) renders that take
+  // longer than one tick, so a slow connection would show almost nothing.
+  const lastAdvance = useRef(0);
   useEffect(() => {
-    if (!playing || !opened) return;
-    const handle = setInterval(() => {
+    if (!playing || !opened || !rendered || rendered.t !== t || rendered.z !== z) return;
+    const wait = Math.max(0, 1000 / rate - (performance.now() - lastAdvance.current));
+    const handle = setTimeout(() => {
+      lastAdvance.current = performance.now();
       setT((current) => {
         const next = current + 1;
         if (next < sizeT) return next;
@@ -185,9 +190,9 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         setPlaying(false);
         return current;
       });
-    }, 1000 / rate);
-    return () => clearInterval(handle);
-  }, [playing, rate, loop, sizeT, opened]);
+    }, wait);
+    return () => clearTimeout(handle);
+  }, [playing, opened, rendered, t, z, rate, loop, sizeT]);
 
   useEffect(() => {
     if (!opened || !playing) return;
@@ -476,7 +481,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
           {playing ? "❚❚ Pause" : "▶ Play"}
         </button>
         <label className="flex items-center gap-1">
-          <input type="number" min={1} max={30} value={rate} onChange={(e) => setRate(Math.min(30, Math.max(1, e.target.valueAsNumber || 1)))} className="num w-12 rounded border border-graphite-600 bg-graphite-900 px-1 text-right" />
+          <input type="number" aria-label="Playback rate (planes per second)" min={1} max={30} value={rate} onChange={(e) => setRate(Math.min(30, Math.max(1, e.target.valueAsNumber || 1)))} className="num w-12 rounded border border-graphite-600 bg-graphite-900 px-1 text-right" />
           /s
         </label>
         <label className="flex items-center gap-1">

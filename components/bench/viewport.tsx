@@ -63,7 +63,9 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
     () => ({
       draw(frame) {
         const ctx = canvas.current?.getContext("2d");
-        if (!ctx) return;
+        if (!ctx || !canvas.current) return;
+        // Counts drawn frames, so playback speed can be measured from outside (tests/bench/browser.ts).
+        canvas.current.dataset.frames = String(Number(canvas.current.dataset.frames ?? 0) + 1);
         ctx.putImageData(new ImageData(new Uint8ClampedArray(frame.rgba.buffer as ArrayBuffer, frame.rgba.byteOffset, frame.rgba.byteLength), frame.width, frame.height), 0, 0);
       },
       zoomBy: (factor) => zoomAt(factor),

@@ -2,7 +2,7 @@
 
 import { releaseProxy, wrap, type Endpoint, type Remote } from "comlink";
 import { useEffect, useState } from "react";
-import type { BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, RawValue } from "@/workers/bench-api";
+import type { BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, RawValue } from "@/workers/bench-api";
 
 /** A worker failure, with what the bench was doing in the message; the worker's error is `cause`. */
 export class BenchWorkerError extends Error {
@@ -41,6 +41,7 @@ export class BenchWorkerClient {
   private readonly pending = new Set<Pending>();
   private lastRender: AbortController | null = null;
   private lastPrefetch: AbortController | null = null;
+  private lastCorrection: AbortController | null = null;
 
   constructor(private readonly create: () => BenchEndpoint = startWorker) {}
 
@@ -66,6 +67,7 @@ export class BenchWorkerClient {
   terminate(): void {
     this.lastRender?.abort();
     this.lastPrefetch?.abort();
+    this.lastCorrection?.abort();
     this.failAll(new DOMException("The bench worker was stopped", "AbortError"));
     this.remote?.[releaseProxy]();
     this.endpoint?.terminate?.();
@@ -113,6 +115,7 @@ export class BenchWorkerClient {
   open(args: BenchOpenArgs, signal?: AbortSignal) {
     this.lastRender?.abort();
     this.lastPrefetch?.abort();
+    this.lastCorrection?.abort();
     return this.call(`opening dataset ${args.datasetId}`, signal, (r, id) => r.open(args, id));
   }
 
@@ -145,8 +148,27 @@ export class BenchWorkerClient {
     return result;
   }
 
-  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal): Promise<number[]> {
-    return this.call(`computing percentiles of channel ${c} at z ${z}, t ${t}`, signal, (r, id) => r.percentiles(z, t, c, [...ps], id));
+  /**
+   * Exact percentiles of one plane; of the corrected values whenever a correction is set, unless
+   * `options.corrected` is false (raw) — pass the view's `correction` flag to match what is shown.
+   */
+  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal, options?: { corrected?: boolean }): Promise<number[]> {
+    return this.call(`computing percentiles of channel ${c} at z ${z}, t ${t}`, signal, (r, id) => r.percentiles(z, t, c, [...ps], id, options && { ...options }));
+  }
+
+  /**
+   * Sets the flat-field and dark frames for the open dataset (null turns correction off). A newer
+   * call supersedes an older one still loading its frames.
+   */
+  setCorrection(args: CorrectionArgs | null, signal?: AbortSignal): Promise<CorrectionInfo | null> {
+    const previous = this.lastCorrection;
+    const own = new AbortController();
+    this.lastCorrection = own;
+    const combined = signal ? AbortSignal.any([signal, own.signal]) : own.signal;
+    const what = args ? "loading the flat-field and dark frames" : "turning flat/dark correction off";
+    const result = this.call(what, combined, (r, id) => r.setCorrection(args, id));
+    previous?.abort(new DOMException("Superseded by a newer correction", "AbortError"));
+    return result;
   }
 
   close(): Promise<void> {
