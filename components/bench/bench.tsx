@@ -15,6 +15,7 @@ import type { CvdKind } from "@/lib/imaging/cvd";
 import { hexToRgb } from "@/lib/imaging/palettes";
 import type { BenchPlaneRef, BenchRender, RawValue } from "@/workers/bench-api";
 import { ChannelCard, type ChannelState } from "./channel-card";
+import { CorrectionPanel, type CorrectionChoice } from "./correction-panel";
 import { HelpOverlay } from "./help-overlay";
 import { Viewport, type ViewportHandle } from "./viewport";
 
@@ -56,6 +57,12 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [fitScope, setFitScope] = useState<"plane" | "stack">("plane");
   const [showScaleBar, setShowScaleBar] = useState(true);
   const [showTime, setShowTime] = useState(false);
+  const [correction, setCorrection] = useState<CorrectionChoice>({ flatId: null, darkId: null, on: false });
+  // The outcome of loading a flat/dark pair, keyed by the pair so a newer choice never shows an older result.
+  const [correctionResult, setCorrectionResult] = useState<{ pair: string; ok: boolean; message: string | null } | null>(null);
+  const correctionPair = correction.flatId !== null && correction.darkId !== null ? `${correction.flatId}:${correction.darkId}` : null;
+  const correctionReady = Boolean(correctionPair && correctionResult?.pair === correctionPair && correctionResult.ok);
+  const correctionStatus = !correctionPair ? null : correctionResult?.pair === correctionPair ? correctionResult.message : "Loading the frames…";
   const [cvd, setCvd] = useState<CvdKind | null>(null);
   const [log, setLog] = useState(true);
   const [range, setRange] = useState<"ceiling" | "data">("ceiling");
@@ -156,6 +163,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         composite,
         clipMarks: marks ? markColours : null,
         cvd,
+        correction: correction.on && correctionReady,
         channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, black: ch.black, white: ch.white, colour: hexToRgb(ch.colour), gamma: ch.gamma, tableId: ch.tableId })),
       })
       .then((result) => {
@@ -172,7 +180,37 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     return () => {
       stale = true;
     };
-  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd]);
+  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady]);
+
+  // Loads the chosen flat-field and dark frames into the worker (one plane each, by their stored IFD offsets).
+  useEffect(() => {
+    if (!opened) return;
+    if (correction.flatId === null || correction.darkId === null || !correctionPair) {
+      void bench.setCorrection(null).catch(() => undefined);
+      return;
+    }
+    let stale = false;
+    const frame = async (id: number) => {
+      const [{ dataset: d }, { planes }] = await Promise.all([
+        api<{ dataset: { sizeBytes: number; width: number; height: number } }>(`/api/datasets/${id}`),
+        api<{ planes: { ifdOffset: number }[] }>(`/api/datasets/${id}/planes`),
+      ]);
+      return { fileUrl: `/api/datasets/${id}/file`, size: d.sizeBytes, ifdOffset: planes[0].ifdOffset, width: d.width, height: d.height };
+    };
+    Promise.all([frame(correction.flatId), frame(correction.darkId)])
+      .then(([flat, dark]) => bench.setCorrection({ flat, dark }))
+      .then((info) => {
+        if (stale) return;
+        const message = info ? `${info.invalid} pixel${info.invalid === 1 ? "" : "s"} with flat − dark ≤ ${info.epsilon} DN are shown as invalid, not divided.` : null;
+        setCorrectionResult({ pair: correctionPair, ok: true, message });
+      })
+      .catch((e: unknown) => {
+        if (!stale) setCorrectionResult({ pair: correctionPair, ok: false, message: e instanceof Error ? e.message : String(e) });
+      });
+    return () => {
+      stale = true;
+    };
+  }, [bench, opened, correction.flatId, correction.darkId, correctionPair]);
 
   // Playback is paced by drawn frames: the next time point is asked for once the current one is on
   // screen and 1/rate seconds have passed. A fixed timer would supersede (abort) renders that take
@@ -212,6 +250,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
       try {
         let black: number;
         let white: number;
+        if (fitScope === "stack" && correction.on) throw new Error("Whole-stack Fit uses raw ingest statistics; with correction on, Fit over this plane.");
         if (fitScope === "stack") {
           const stored = datasetQuery.data?.channelStats.find((x) => x.c === c)?.percentiles ?? {};
           const low = stored[String(fitLow)];
@@ -221,7 +260,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
           }
           [black, white] = [low, high];
         } else {
-          [black, white] = await bench.percentiles(z, t, c, [fitLow, fitHigh]);
+          [black, white] = await bench.percentiles(z, t, c, [fitLow, fitHigh], undefined, { corrected: correction.on && correctionReady });
         }
         updateChannel(c, { black: Math.floor(black), white: Math.max(Math.ceil(white), Math.floor(black) + 1) });
         setError(null);
@@ -231,7 +270,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         setFitting(null);
       }
     },
-    [bench, z, t, updateChannel, fitScope, fitLow, fitHigh, datasetQuery.data],
+    [bench, z, t, updateChannel, fitScope, fitLow, fitHigh, datasetQuery.data, correction.on, correctionReady],
   );
 
   const onPointer = useCallback(
@@ -274,12 +313,13 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const chips = useMemo(() => {
     const list: string[] = [];
     for (const c of channels ?? []) if (c.visible && c.gamma !== 1) list.push(`${c.name}: gamma ${c.gamma} (non-linear)`);
+    if (correction.on && correctionReady) list.push("flat/dark corrected (display only)");
     if (marks) list.push("clipping marks on");
     if (cvd) list.push(`colour-vision preview: ${cvd}`);
     if (composite === "max") list.push("maximum blend");
     if (channels?.some((c) => !c.visible)) list.push(`${channels.filter((c) => c.visible).length} of ${channels.length} channels`);
     return list;
-  }, [composite, channels, marks, cvd]);
+  }, [composite, channels, marks, cvd, correction.on, correctionReady]);
 
   if (datasetQuery.isPending) return <p className="text-sm text-paper-700">Loading dataset…</p>;
   if (datasetQuery.isError || !dataset) return <p role="alert" className="text-sm text-fault-700">{datasetQuery.error?.message ?? "Dataset not found."}</p>;
@@ -391,6 +431,9 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
                 {readout.values.map((v) => (
                   <span key={v.c}>
                     {channels?.[v.c]?.name ?? `c${v.c}`} <strong className="font-semibold text-white">{v.value}</strong> <span className="text-graphite-300">DN</span>
+                    {correction.on && correctionReady && v.corrected !== undefined && (
+                      <span className="text-graphite-200"> (corrected {v.corrected === null ? "invalid" : v.corrected.toFixed(1)})</span>
+                    )}
                   </span>
                 ))}
               </>
@@ -455,6 +498,15 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               fitBusy={fitting === ch.c}
             />
           ))}
+          <CorrectionPanel
+            labId={labId}
+            datasetId={datasetId}
+            width={dataset.width ?? 0}
+            height={dataset.height ?? 0}
+            value={correction}
+            status={correctionStatus}
+            onChange={setCorrection}
+          />
           <p className="text-[11px] leading-snug text-graphite-300">
             Mappings change only the display; the stored counts are never changed. Colour-vision preview simulates Machado, Oliveira &amp; Fernandes (2009). Fit uses exact percentiles of the integer histogram (Hyndman &amp; Fan type 7), never a sort or a display value.
           </p>

@@ -6,7 +6,7 @@ import { useRef } from "react";
 
 export interface HistogramPlotProps {
   /** Compact histogram of the plane: counts per bin of `binWidth` raw values, from 0. */
-  hist: { binWidth: number; counts: number[] };
+  hist: { binWidth: number; counts: number[]; start?: number };
   ceiling: number;
   black: number;
   white: number;
@@ -28,7 +28,7 @@ const M = { top: 6, right: 8, bottom: 22, left: 8 };
 export function HistogramPlot({ hist, ceiling, black, white, log, range, dataMin, dataMax, colour, label, onChange }: HistogramPlotProps) {
   const svg = useRef<SVGSVGElement>(null);
   const dragging = useRef<"black" | "white" | null>(null);
-  const x0 = range === "ceiling" ? 0 : Math.max(0, Math.min(dataMin, black));
+  const x0 = range === "ceiling" ? 0 : Math.min(dataMin, black);
   const x1 = range === "ceiling" ? ceiling : Math.max(dataMax, white, x0 + 1);
   const x = scaleLinear<number>({ domain: [x0, x1], range: [M.left, W - M.right] });
   const max = Math.max(1, ...hist.counts);
@@ -36,14 +36,17 @@ export function HistogramPlot({ hist, ceiling, black, white, log, range, dataMin
     ? scaleSymlog<number>({ domain: [0, max], range: [H - M.bottom, M.top], constant: 1 })
     : scaleLinear<number>({ domain: [0, max], range: [H - M.bottom, M.top] });
 
-  let path = `M ${x(x0)} ${y(0)}`;
+  let path = "";
+  let end = x0;
   hist.counts.forEach((count, i) => {
-    const a = i * hist.binWidth;
+    const a = (hist.start ?? 0) + i * hist.binWidth;
     const b = a + hist.binWidth;
     if (b < x0 || a > x1) return;
-    path += ` L ${x(Math.max(a, x0))} ${y(count)} L ${x(Math.min(b, x1))} ${y(count)}`;
+    path += `${path ? " L" : `M ${x(Math.max(a, x0))} ${y(0)} L`} ${x(Math.max(a, x0))} ${y(count)} L ${x(Math.min(b, x1))} ${y(count)}`;
+    end = Math.min(b, x1);
   });
-  path += ` L ${x(x1)} ${y(0)} Z`;
+  // Close down to the baseline where the data end, not where the axis ends.
+  path = path ? `${path} L ${x(end)} ${y(0)} Z` : "";
 
   const valueAt = (clientX: number) => {
     const rect = svg.current!.getBoundingClientRect();

@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadStackFixture, PERCENTS, type StackFixture } from "../imaging/stack-fixture";
 import { openBrowser, screenshot, type Person } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
+import { PYTHON, run, tempDir } from "../helpers/tiff-tools";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
 import { baseUrl } from "../setup/test-env";
 
@@ -21,6 +22,16 @@ beforeAll(async () => {
   const reply = await uploadFile(lab.editor, lab.labId, new Uint8Array(readFileSync(fixture.omePath)), { title: "Bench stack" });
   datasetId = reply.body.datasetId;
   expect((await waitForIngest(lab.editor, datasetId)).dataset.status).toBe("ready");
+  // A flat-field frame of 2000 DN and a dark frame of 100 DN, the same size as the stack; at (9, 4)
+  // the flat equals the dark, so that pixel cannot be corrected (written by tifffile).
+  const frames = tempDir("frames");
+  for (const [name, value] of [["flat", 2000], ["dark", 100]] as const) {
+    const path = frames.path(`${name}.tif`);
+    run(PYTHON, ["-c", `import numpy as np, tifffile; a = np.full((${fixture.height}, ${fixture.width}), ${value}, np.uint16); a[4, 9] = 100; tifffile.imwrite(${JSON.stringify(path)}, a, photometric="minisblack", metadata=None)`]);
+    const up = await uploadFile(lab.editor, lab.labId, new Uint8Array(readFileSync(path)), { fileName: `${name}.tif`, title: `${name} frame`, dimensions: { sizeC: 1, sizeZ: 1, sizeT: 1, order: "XYCZT" } });
+    expect((await waitForIngest(lab.editor, up.body.datasetId)).dataset.status).toBe("ready");
+  }
+  frames.remove();
   person = await openBrowser();
   const page = person.page;
   await page.goto(`${baseUrl}/signin`);
@@ -143,6 +154,33 @@ describe("the bench", () => {
     await screenshot(page, "bench-03-marks-gamma-cvd");
     await page.getByLabel("Colour vision").selectOption("");
     await page.getByLabel("Clipping marks").uncheck();
+  });
+
+  it("corrects with a flat-field and dark frame for display only, and marks pixels it cannot correct", async () => {
+    const page = person.page;
+    const panel = page.getByRole("region", { name: "Flat and dark correction" });
+    await panel.getByLabel("Flat-field frame", { exact: true }).selectOption({ label: "flat frame" });
+    await panel.getByLabel("Dark frame", { exact: true }).selectOption({ label: "dark frame" });
+    await panel.getByText("1 pixel with flat − dark ≤ 0.5 DN are shown as invalid, not divided.").waitFor();
+    await panel.getByLabel(/^Apply/).check();
+    await page.getByText("flat/dark corrected (display only)").waitFor();
+    // Ticking the box may have scrolled the channel column into view; point from the top of the page.
+    await page.evaluate(() => window.scrollTo(0, 0));
+    const box = (await page.getByLabel("Image plane").boundingBox())!;
+    const scale = box.width / fixture.width;
+    const readout = page.getByLabel("Readout");
+    // corrected = (raw − dark)/(flat − dark) × mean(flat − dark) = (raw − 100)/1900 × 1900 = raw − 100
+    // (Murphy & Davidson, Fundamentals of Light Microscopy and Electronic Imaging, flat-field correction).
+    await page.mouse.move(box.x + (5 + 0.5) * scale, box.y + (5 + 0.5) * scale);
+    await readout.getByText("x 5 y 5").waitFor();
+    const raw = fixture.planes[planeIndex(0, 0, 0)][5 * fixture.width + 5];
+    await expect.poll(() => readout.textContent()).toContain(`nuclei ${raw} DN (corrected ${(raw - 100).toFixed(1)})`);
+    await page.mouse.move(box.x + (9 + 0.5) * scale, box.y + (4 + 0.5) * scale);
+    await readout.getByText("x 9 y 4").waitFor();
+    await expect.poll(() => readout.textContent()).toContain("(corrected invalid)");
+    await screenshot(page, "bench-04-correction");
+    await panel.getByLabel(/^Apply/).uncheck();
+    await expect.poll(() => page.getByText("flat/dark corrected (display only)").count()).toBe(0);
   });
 
   it("plays through time points and keeps the plane in the address", async () => {
