@@ -12,6 +12,7 @@ import { clipMarkRgbaLut } from "../lib/imaging/clip-marks";
 import { findTable, parseHex, singleHueTable } from "../lib/imaging/colour-tables";
 import { addSaturate, compositeAdd, compositeMax, maxLanes } from "../lib/imaging/composite";
 import { flatDarkCorrect, floatHistogram, floatPercentiles, mapFloatToRgba } from "../lib/imaging/correction";
+import { regionHistogram, type ImageRect } from "../lib/imaging/fit";
 import { simulateCvd, type CvdKind } from "../lib/imaging/cvd";
 import { buildLut, buildRgbaLut, packRgba } from "../lib/imaging/lut";
 import { percentiles as percentilesFromHistogram } from "../lib/imaging/percentile";
@@ -213,6 +214,24 @@ interface Session {
   correctionRequests: number;
 }
 
+function clampRect(rect: ImageRect, width: number, height: number): ImageRect {
+  const x = Math.max(0, Math.min(width - 1, Math.floor(rect.x)));
+  const y = Math.max(0, Math.min(height - 1, Math.floor(rect.y)));
+  return { x, y, width: Math.max(1, Math.min(width - x, Math.ceil(rect.width))), height: Math.max(1, Math.min(height - y, Math.ceil(rect.height))) };
+}
+
+/** The valid (non-NaN) corrected values inside a rectangle. */
+function cropFloat(values: Float32Array, width: number, rect: ImageRect): Float32Array {
+  const out: number[] = [];
+  for (let y = rect.y; y < rect.y + rect.height; y++) {
+    for (let x = rect.x; x < rect.x + rect.width; x++) {
+      const v = values[y * width + x];
+      if (!Number.isNaN(v)) out.push(v);
+    }
+  }
+  return Float32Array.from(out);
+}
+
 export class BenchError extends Error {
   override name = "BenchError";
 }
@@ -375,6 +394,13 @@ function correctedStats(values: Float32Array, bins: number): CorrectedPlane["sta
   };
 }
 
+export interface PercentileOptions {
+  /** Corrected values when a flat/dark correction is set (the default then); false forces raw. */
+  corrected?: boolean;
+  /** Only the pixels inside this rectangle of the image (Fit over the visible area). */
+  rect?: ImageRect;
+}
+
 export interface BenchApi {
   open(args: BenchOpenArgs, signal?: AbortSignal): Promise<{ planes: number; channels: number[]; size: number }>;
   renderView(view: BenchView, signal?: AbortSignal): Promise<BenchRender>;
@@ -386,7 +412,7 @@ export interface BenchApi {
    * histogram. Corrected (by default whenever a correction is set; `corrected: false` asks for raw):
    * exact type-7 percentiles of the corrected values, invalid pixels left out.
    */
-  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal, options?: { corrected?: boolean }): Promise<number[]>;
+  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal, options?: PercentileOptions): Promise<number[]>;
   /**
    * Loads a flat-field and a dark frame (one plane each) for this dataset's session, or turns the
    * correction off (null). On failure the previous correction stays as it was.
@@ -630,8 +656,16 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       const sig = both(signal, s.controller.signal);
       const ref = planeAt(s, c, z, t);
       const corr = correctionFor(s, options?.corrected);
-      if (corr) return floatPercentiles((await loadCorrected(s, corr, ref, sig)).data, ps);
+      const rect = options?.rect && clampRect(options.rect, s.args.width, s.args.height);
+      if (corr) {
+        const values = (await loadCorrected(s, corr, ref, sig)).data;
+        return floatPercentiles(rect ? cropFloat(values, s.args.width, rect) : values, ps);
+      }
       const p = await load(s, ref, sig);
+      if (rect) {
+        const region = regionHistogram(p.data, s.args.width, rect);
+        return percentilesFromHistogram(region.hist, ps, region.total);
+      }
       return percentilesFromHistogram(p.hist, ps, p.stats.count);
     },
 
@@ -688,7 +722,7 @@ export interface BenchWorkerApi {
   renderView(view: BenchView, requestId?: number): Promise<BenchRender>;
   readValues(z: number, t: number, x: number, y: number, requestId?: number): Promise<RawValue[]>;
   prefetch(z: number, ts: readonly number[], requestId?: number, channels?: readonly number[]): Promise<{ planes: number }>;
-  percentiles(z: number, t: number, c: number, ps: readonly number[], requestId?: number, options?: { corrected?: boolean }): Promise<number[]>;
+  percentiles(z: number, t: number, c: number, ps: readonly number[], requestId?: number, options?: PercentileOptions): Promise<number[]>;
   setCorrection(args: CorrectionArgs | null, requestId?: number): Promise<CorrectionInfo | null>;
   cancel(requestId: number): void;
   counters(): BenchCounters;

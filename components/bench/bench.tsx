@@ -54,7 +54,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [marks, setMarks] = useState(false);
   const [fitLow, setFitLow] = useState(FIT_LOW);
   const [fitHigh, setFitHigh] = useState(FIT_HIGH);
-  const [fitScope, setFitScope] = useState<"plane" | "stack">("plane");
+  const [fitScope, setFitScope] = useState<"plane" | "stack" | "visible">("plane");
   const [showScaleBar, setShowScaleBar] = useState(true);
   const [showTime, setShowTime] = useState(false);
   const [correction, setCorrection] = useState<CorrectionChoice>({ flatId: null, darkId: null, on: false });
@@ -260,7 +260,8 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
           }
           [black, white] = [low, high];
         } else {
-          [black, white] = await bench.percentiles(z, t, c, [fitLow, fitHigh], undefined, { corrected: correction.on && correctionReady });
+          const rect = fitScope === "visible" ? viewport.current?.visibleRect() : undefined;
+          [black, white] = await bench.percentiles(z, t, c, [fitLow, fitHigh], undefined, { corrected: correction.on && correctionReady, rect });
         }
         updateChannel(c, { black: Math.floor(black), white: Math.max(Math.ceil(white), Math.floor(black) + 1) });
         setError(null);
@@ -460,9 +461,10 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             % to
             <input type="number" aria-label="Fit high percentile" min={50} max={100} step={0.01} value={fitHigh} onChange={(e) => Number.isFinite(e.target.valueAsNumber) && setFitHigh(Math.max(Math.min(e.target.valueAsNumber, 100), fitLow + 0.01))} className="num w-14 rounded border border-graphite-600 bg-graphite-950 px-1 text-right" />
             % of
-            <select aria-label="Fit over" value={fitScope} onChange={(e) => setFitScope(e.target.value as "plane" | "stack")} className="rounded border border-graphite-600 bg-graphite-950 px-1 py-0.5">
+            <select aria-label="Fit over" value={fitScope} onChange={(e) => setFitScope(e.target.value as "plane" | "stack" | "visible")} className="rounded border border-graphite-600 bg-graphite-950 px-1 py-0.5">
               <option value="plane">this plane</option>
               <option value="stack">the whole stack</option>
+              <option value="visible">the visible area</option>
             </select>
           </div>
           {cvdWarning && (

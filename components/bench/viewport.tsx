@@ -13,6 +13,8 @@ export interface ViewportHandle {
   zoomBy(factor: number): void;
   fit(): void;
   oneToOne(): void;
+  /** The part of the image on screen, in image pixels (for Fit over the visible area). */
+  visibleRect(): { x: number; y: number; width: number; height: number };
 }
 
 interface Props {
@@ -69,13 +71,22 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
         ctx.putImageData(new ImageData(new Uint8ClampedArray(frame.rgba.buffer as ArrayBuffer, frame.rgba.byteOffset, frame.rgba.byteLength), frame.width, frame.height), 0, 0);
       },
       zoomBy: (factor) => zoomAt(factor),
+      visibleRect() {
+        const rect = box.current?.getBoundingClientRect();
+        if (!rect) return { x: 0, y: 0, width, height };
+        const x0 = Math.max(0, Math.floor(-view.x / view.scale));
+        const y0 = Math.max(0, Math.floor(-view.y / view.scale));
+        const x1 = Math.min(width, Math.ceil((rect.width - view.x) / view.scale));
+        const y1 = Math.min(height, Math.ceil((rect.height - view.y) / view.scale));
+        return { x: x0, y: y0, width: Math.max(1, x1 - x0), height: Math.max(1, y1 - y0) };
+      },
       fit: fitView,
       oneToOne: () => {
         const rect = box.current?.getBoundingClientRect();
         if (rect) setView({ scale: 1, x: (rect.width - width) / 2, y: (rect.height - height) / 2 });
       },
     }),
-    [fitView, zoomAt, width, height],
+    [fitView, zoomAt, width, height, view],
   );
 
   useEffect(() => {

@@ -2,7 +2,7 @@
 
 import { releaseProxy, wrap, type Endpoint, type Remote } from "comlink";
 import { useEffect, useState } from "react";
-import type { BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, RawValue } from "@/workers/bench-api";
+import type { PercentileOptions, BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, RawValue } from "@/workers/bench-api";
 
 /** A worker failure, with what the bench was doing in the message; the worker's error is `cause`. */
 export class BenchWorkerError extends Error {
@@ -152,7 +152,7 @@ export class BenchWorkerClient {
    * Exact percentiles of one plane; of the corrected values whenever a correction is set, unless
    * `options.corrected` is false (raw) — pass the view's `correction` flag to match what is shown.
    */
-  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal, options?: { corrected?: boolean }): Promise<number[]> {
+  percentiles(z: number, t: number, c: number, ps: readonly number[], signal?: AbortSignal, options?: PercentileOptions): Promise<number[]> {
     return this.call(`computing percentiles of channel ${c} at z ${z}, t ${t}`, signal, (r, id) => r.percentiles(z, t, c, [...ps], id, options && { ...options }));
   }
 

@@ -265,6 +265,17 @@ describe("bench api", () => {
     expect(p999).toBeCloseTo(383 * 0.999, 9);
   });
 
+  test("percentiles over a rectangle use only the pixels inside it (Fit over the visible area)", async () => {
+    // Pixel i holds i; the rectangle x 2…5, y 3…4 holds 3·24+2 … 3·24+5 and 4·24+2 … 4·24+5.
+    const s = await stack(1, 1, 1, (_c, _z, _t, p) => p.forEach((_, i) => (p[i] = i)));
+    const api = createBenchApi({ openSource: counted(s.bytes).openSource });
+    await api.open(openArgs(s));
+    const inside = [74, 75, 76, 77, 98, 99, 100, 101];
+    const [lo, mid, hi] = await api.percentiles(0, 0, 0, [0, 50, 100], undefined, { rect: { x: 2, y: 3, width: 4, height: 2 } });
+    // Type 7 on the 8 values (Hyndman & Fan 1996): median between the 4th and 5th = (77 + 98) / 2.
+    expect([lo, mid, hi]).toEqual([inside[0], (77 + 98) / 2, inside[7]]);
+  });
+
   test("names a missing plane and refuses to work before open or after close", async () => {
     const s = await stack(1, 1, 2);
     const api = createBenchApi({ openSource: counted(s.bytes).openSource });
