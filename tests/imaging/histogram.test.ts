@@ -1,4 +1,4 @@
-import { afterAll, beforeAll, describe, expect, test } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, test } from "vitest";
 import { countAt, histogram16, mergeHistograms, statsFromHistogram } from "@/lib/imaging/histogram";
 import { loadStackFixture, type StackFixture } from "./stack-fixture";
 
@@ -64,5 +64,16 @@ describe("mergeHistograms and countAt", () => {
     expect(s.count).toBe(0);
     expect([s.min, s.max, s.mean, s.sd].every(Number.isNaN)).toBe(true);
     expect(s.countAtCeiling).toBeNull();
+  });
+});
+
+describe("histogram16 on any view of 16-bit data", () => {
+  it("counts odd lengths and views that do not start on a 4-byte boundary exactly like a plain count", () => {
+    const data = Uint16Array.from({ length: 1001 }, (_, i) => (i * 7919) % 65536);
+    for (const view of [data, data.subarray(1), data.subarray(3, 998)]) {
+      const expected = new Uint32Array(65536);
+      for (const v of view) expected[v]++;
+      expect(histogram16(view)).toEqual(expected);
+    }
   });
 });
