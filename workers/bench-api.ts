@@ -8,7 +8,7 @@
 // lib/imaging/correction.ts. Corrected planes are separate Float32Arrays kept in the same budgeted
 // cache under their own keys; the decoded raw planes are only read, and nothing is written back.
 import { statsFromHistogram, histogram16, type HistogramStats } from "../lib/imaging/histogram";
-import { clipMarkRgbaLut } from "../lib/imaging/clip-marks";
+import { bottomPercentTo, clipMarkRgbaLut, topPercentFrom, type ClipThresholds } from "../lib/imaging/clip-marks";
 import { findTable, parseHex, singleHueTable } from "../lib/imaging/colour-tables";
 import { addSaturate, compositeAdd, compositeMax, maxLanes } from "../lib/imaging/composite";
 import { flatDarkCorrect, floatHistogram, floatPercentiles, mapFloatToRgba } from "../lib/imaging/correction";
@@ -63,13 +63,27 @@ export interface ChannelView {
   tableId?: string | null;
 }
 
+/**
+ * Clipping marks: `high` colour on pixels at the ceiling (and, with `highPercent`, on the brightest
+ * that many percent), `low` colour on pixels at or below the black point, or with lowMode "percent"
+ * on the darkest `lowPercent` percent. Percentages come from the plane's exact histogram and never
+ * split pixels of equal value.
+ */
+export interface ClipMarkSettings {
+  high: string;
+  low: string;
+  lowMode?: "black" | "percent";
+  lowPercent?: number;
+  highPercent?: number;
+}
+
 export interface BenchView {
   z: number;
   t: number;
   /** Every channel listed is decoded and gets statistics; only visible ones are drawn. */
   channels: readonly ChannelView[];
   composite: "add" | "max";
-  clipMarks?: { high: string; low: string } | null;
+  clipMarks?: ClipMarkSettings | null;
   cvd?: CvdKind | null;
   /**
    * Show flat/dark-corrected values (needs setCorrection with frames; without them the view is raw
@@ -267,6 +281,8 @@ export interface RenderLayer {
   gamma?: number;
   /** A built-in colour table (lib/imaging/colour-tables.ts); otherwise a ramp from black to `colour`. */
   tableId?: string | null;
+  /** Where this layer's clipping marks start; default: high at the ceiling, low at the black point. */
+  marks?: ClipThresholds;
 }
 
 export interface RenderOptions {
@@ -289,7 +305,7 @@ export function renderLayers(layers: readonly RenderLayer[], length: number, mod
     const lut = buildLut({ black: l.black, white, gamma: l.gamma }, Math.max(ceiling, Math.ceil(white)));
     const table = (l.tableId && findTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
     let rgbaLut = buildRgbaLut(lut, table);
-    if (options.clipMarks) rgbaLut = clipMarkRgbaLut(rgbaLut, { highFrom: ceiling, lowTo: Math.floor(l.black) }, options.clipMarks.high, options.clipMarks.low);
+    if (options.clipMarks) rgbaLut = clipMarkRgbaLut(rgbaLut, l.marks ?? { highFrom: ceiling, lowTo: Math.floor(l.black) }, options.clipMarks.high, options.clipMarks.low);
     return { pixels: l.pixels, rgbaLut };
   });
   if (channels.length === 0) out.fill(packRgba(0, 0, 0, 255));
@@ -610,8 +626,18 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
           })),
         };
       }
+      const marksFor = (i: number, black: number): ClipThresholds | undefined => {
+        const m = view.clipMarks;
+        if (!m || (m.lowMode !== "percent" && !m.highPercent)) return undefined;
+        const hist = loaded[i].hist;
+        const highFrom = m.highPercent ? Math.min(s.args.ceiling, topPercentFrom(hist, m.highPercent)) : s.args.ceiling;
+        const lowTo = m.lowMode === "percent" ? bottomPercentTo(hist, m.lowPercent ?? 0.1) : Math.floor(black);
+        return { highFrom, lowTo };
+      };
       const layers = view.channels.flatMap((ch, i) =>
-        ch.visible ? [{ pixels: loaded[i].data, black: ch.black, white: ch.white, colour: ch.colour, gamma: ch.gamma, tableId: ch.tableId }] : [],
+        ch.visible
+          ? [{ pixels: loaded[i].data, black: ch.black, white: ch.white, colour: ch.colour, gamma: ch.gamma, tableId: ch.tableId, marks: marksFor(i, ch.black) }]
+          : [],
       );
       const rgba = renderLayers(layers, length, view.composite, { ceiling: s.args.ceiling, clipMarks: view.clipMarks, cvd: view.cvd });
       return {

@@ -52,6 +52,9 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [channels, setChannels] = useState<ChannelState[] | null>(null);
   const [composite, setComposite] = useState<"add" | "max">("add");
   const [marks, setMarks] = useState(false);
+  const [lowMarkMode, setLowMarkMode] = useState<"black" | "percent">("black");
+  const [lowMarkPercent, setLowMarkPercent] = useState(0.1);
+  const [highMarkPercent, setHighMarkPercent] = useState(0);
   const [fitLow, setFitLow] = useState(FIT_LOW);
   const [fitHigh, setFitHigh] = useState(FIT_HIGH);
   const [fitScope, setFitScope] = useState<"plane" | "stack" | "visible">("plane");
@@ -161,7 +164,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         z,
         t,
         composite,
-        clipMarks: marks ? markColours : null,
+        clipMarks: marks ? { ...markColours, lowMode: lowMarkMode, lowPercent: lowMarkPercent, highPercent: highMarkPercent || undefined } : null,
         cvd,
         correction: correction.on && correctionReady,
         channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, black: ch.black, white: ch.white, colour: hexToRgb(ch.colour), gamma: ch.gamma, tableId: ch.tableId })),
@@ -180,7 +183,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     return () => {
       stale = true;
     };
-  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady]);
+  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady, lowMarkMode, lowMarkPercent, highMarkPercent]);
 
   // Loads the chosen flat-field and dark frames into the worker (one plane each, by their stored IFD offsets).
   useEffect(() => {
@@ -467,6 +470,30 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               <option value="visible">the visible area</option>
             </select>
           </div>
+          {marks && (
+            <div className="space-y-1 text-[11px] text-graphite-200" aria-label="Clipping mark settings">
+              <div className="flex flex-wrap items-center gap-1">
+                <span className="inline-block h-2.5 w-2.5 rounded-sm" style={{ background: markColours.low }} />
+                Mark
+                <select aria-label="Low mark" value={lowMarkMode} onChange={(e) => setLowMarkMode(e.target.value as "black" | "percent")} className="rounded border border-graphite-600 bg-graphite-950 px-1 py-0.5">
+                  <option value="black">at or below the black point</option>
+                  <option value="percent">the lowest</option>
+                </select>
+                {lowMarkMode === "percent" && (
+                  <>
+                    <input type="number" aria-label="Lowest percent marked" min={0.001} max={50} step={0.01} value={lowMarkPercent} onChange={(e) => Number.isFinite(e.target.valueAsNumber) && setLowMarkPercent(Math.min(50, Math.max(0.001, e.target.valueAsNumber)))} className="num w-14 rounded border border-graphite-600 bg-graphite-950 px-1 text-right" />
+                    %
+                  </>
+                )}
+              </div>
+              <div className="flex flex-wrap items-center gap-1">
+                <span className="inline-block h-2.5 w-2.5 rounded-sm" style={{ background: markColours.high }} />
+                Mark the ceiling ({ceiling}) and the highest
+                <input type="number" aria-label="Highest percent marked" min={0} max={50} step={0.01} value={highMarkPercent} onChange={(e) => Number.isFinite(e.target.valueAsNumber) && setHighMarkPercent(Math.min(50, Math.max(0, e.target.valueAsNumber)))} className="num w-14 rounded border border-graphite-600 bg-graphite-950 px-1 text-right" />
+                %
+              </div>
+            </div>
+          )}
           {cvdWarning && (
             <div role="alert" className="rounded border border-[#ffd180]/50 bg-graphite-800 p-2 text-xs text-[#ffd180]">
               {cvdWarning}{" "}
@@ -498,6 +525,8 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               onSolo={() => setChannels((all) => all?.map((x) => ({ ...x, visible: x.c === ch.c })) ?? all)}
               onFit={() => void fit(ch.c)}
               fitBusy={fitting === ch.c}
+              // Until detector profiles exist, the offset is estimated as the stack's 0.01 % point (common practice).
+              offset={datasetQuery.data?.channelStats.find((x) => x.c === ch.c)?.percentiles?.["0.01"] ?? null}
             />
           ))}
           <CorrectionPanel

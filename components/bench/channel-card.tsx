@@ -31,13 +31,14 @@ interface Props {
   onSolo: () => void;
   onFit: () => void;
   fitBusy: boolean;
+  offset?: number | null;
 }
 
 const pct = (n: number, total: number) => (total ? `${((100 * n) / total).toFixed(3)} %` : "—");
 const num = (v: number | undefined, digits = 0) => (v === undefined || Number.isNaN(v) ? "—" : v.toFixed(digits));
 
 /** One channel's card on the bench: visibility, colour, histogram with handles, typed black/white points, Fit. */
-export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, onChange, onSolo, onFit, fitBusy }: Props) {
+export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, onChange, onSolo, onFit, fitBusy, offset }: Props) {
   const id = `ch-${channel.c}`;
   return (
     <section aria-label={`Channel ${channel.name}`} className="rounded border border-graphite-700 bg-graphite-900 p-3">
@@ -75,6 +76,7 @@ export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, o
           dataMax={stats.max}
           colour={channel.colour}
           label={channel.name}
+          offset={stats.corrected ? null : offset}
           onChange={onChange}
         />
       ) : (

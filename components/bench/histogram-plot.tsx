@@ -17,6 +17,8 @@ export interface HistogramPlotProps {
   dataMax: number;
   colour: string;
   label: string;
+  /** Estimated camera offset (dark level) in DN, marked on the axis; null when unknown. */
+  offset?: number | null;
   onChange: (next: { black?: number; white?: number }) => void;
 }
 
@@ -25,7 +27,7 @@ const H = 96;
 const M = { top: 6, right: 8, bottom: 22, left: 8 };
 
 /** Counts against raw value, with draggable black/white handles and a marker at the ceiling. */
-export function HistogramPlot({ hist, ceiling, black, white, log, range, dataMin, dataMax, colour, label, onChange }: HistogramPlotProps) {
+export function HistogramPlot({ hist, ceiling, black, white, log, range, dataMin, dataMax, colour, label, offset, onChange }: HistogramPlotProps) {
   const svg = useRef<SVGSVGElement>(null);
   const dragging = useRef<"black" | "white" | null>(null);
   const x0 = range === "ceiling" ? 0 : Math.min(dataMin, black);
@@ -60,7 +62,7 @@ export function HistogramPlot({ hist, ceiling, black, white, log, range, dataMin
       viewBox={`0 0 ${W} ${H}`}
       className="w-full touch-none select-none"
       role="img"
-      aria-label={`${label}: histogram of raw values${log ? " (log count axis)" : ""}, black point ${black}, white point ${white}`}
+      aria-label={`${label}: histogram of raw values${log ? " (log count axis)" : ""}, black point ${black}, white point ${white}${offset != null ? `, offset estimate ${Math.round(offset)}` : ""}`}
       onPointerMove={(e) => {
         if (!dragging.current) return;
         const v = valueAt(e.clientX);
@@ -71,7 +73,16 @@ export function HistogramPlot({ hist, ceiling, black, white, log, range, dataMin
       onPointerLeave={() => (dragging.current = null)}
     >
       <path d={path} fill={colour} fillOpacity={0.55} stroke={colour} strokeWidth={0.75} />
-      {ceiling <= x1 && <line x1={x(ceiling)} x2={x(ceiling)} y1={M.top} y2={H - M.bottom} stroke="#e05050" strokeDasharray="3 2" />}
+      {ceiling <= x1 && (
+        <line x1={x(ceiling)} x2={x(ceiling)} y1={M.top} y2={H - M.bottom} stroke="#e05050" strokeDasharray="3 2">
+          <title>Ceiling {ceiling} DN</title>
+        </line>
+      )}
+      {offset != null && offset >= x0 && offset <= x1 && (
+        <line x1={x(offset)} x2={x(offset)} y1={M.top} y2={H - M.bottom} stroke="#8ab4f8" strokeDasharray="1 2">
+          <title>Offset estimate {Math.round(offset)} DN</title>
+        </line>
+      )}
       {(["black", "white"] as const).map((which) => {
         const value = which === "black" ? black : white;
         if (value < x0 || value > x1) return null;

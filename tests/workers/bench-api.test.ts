@@ -276,6 +276,27 @@ describe("bench api", () => {
     expect([lo, mid, hi]).toEqual([inside[0], (77 + 98) / 2, inside[7]]);
   });
 
+  test("marks the darkest and brightest percent of pixels from the exact histogram when asked", async () => {
+    // Pixel i holds i (384 pixels): 1 % is 3.84 pixels, so values 0, 1, 2 and 381, 382, 383 are marked
+    // (whole values only; lib/imaging/clip-marks.ts).
+    const s = await stack(1, 1, 1, (_c, _z, _t, p) => p.forEach((_, i) => (p[i] = i)));
+    const api = createBenchApi({ openSource: counted(s.bytes).openSource });
+    await api.open(openArgs(s));
+    const view = {
+      z: 0,
+      t: 0,
+      composite: "add" as const,
+      channels: [channel(0, 0, 383, [255, 255, 255])],
+      clipMarks: { high: "#ff0000", low: "#0000ff", lowMode: "percent" as const, lowPercent: 1, highPercent: 1 },
+    };
+    const { rgba } = await api.renderView(view);
+    const px = (i: number) => Array.from(rgba.subarray(i * 4, i * 4 + 3));
+    expect([px(0), px(2), px(381), px(383)]).toEqual([[0, 0, 255], [0, 0, 255], [255, 0, 0], [255, 0, 0]]);
+    // Just outside the marked values: the ordinary grey ramp.
+    expect(px(3)).toEqual([2, 2, 2]);
+    expect(px(380)).toEqual([253, 253, 253]);
+  });
+
   test("names a missing plane and refuses to work before open or after close", async () => {
     const s = await stack(1, 1, 2);
     const api = createBenchApi({ openSource: counted(s.bytes).openSource });
