@@ -1,10 +1,10 @@
 "use client";
 
 import type { ColumnDef, SortingState } from "@tanstack/react-table";
-import { flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
 import Link from "next/link";
 import { useMemo, useState } from "react";
 import { Button } from "@/components/ui/button";
+import { DataTable } from "@/components/ui/data-table";
 import { EmptyState, ErrorState, Loading, PageHeader } from "@/components/ui/states";
 import { formatBytes, useDatasets } from "@/lib/client/datasets";
 import { can, type Role } from "@/lib/permissions";
@@ -51,7 +51,7 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
   }, [search, status, experiment, tag, bin, page, sorting]);
   const list = useDatasets(labId, query);
 
-  const columns = useMemo<ColumnDef<DatasetOut>[]>(
+  const columns = useMemo<ColumnDef<DatasetOut, unknown>[]>(
     () => [
       {
         id: "thumbnail",
@@ -88,21 +88,6 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
     ],
     [labId],
   );
-
-  // eslint-disable-next-line react-hooks/incompatible-library -- TanStack Table returns fresh functions by design
-  const table = useReactTable({
-    data: list.data?.datasets ?? [],
-    columns,
-    state: { sorting },
-    manualSorting: true,
-    manualPagination: true,
-    enableSortingRemoval: false,
-    onSortingChange: (updater) => {
-      setSorting(updater);
-      setPage(1);
-    },
-    getCoreRowModel: getCoreRowModel(),
-  });
 
   const pages = list.data ? Math.max(1, Math.ceil(list.data.total / list.data.pageSize)) : 1;
   const filtered = Boolean(search || status || experiment || tag);
@@ -160,43 +145,18 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
                   : "An editor or owner of this lab can upload the first stack."}
           </EmptyState>
         ) : (
-          <div className="overflow-x-auto rounded-md border border-paper-200 bg-white">
-            <table className="w-full text-left text-sm">
-              <caption className="sr-only">Datasets</caption>
-              <thead className="border-b border-paper-200 bg-paper-100 text-xs uppercase tracking-wide text-paper-700">
-                {table.getHeaderGroups().map((group) => (
-                  <tr key={group.id}>
-                    {group.headers.map((header) => {
-                      const sorted = header.column.getIsSorted();
-                      return (
-                        <th key={header.id} scope="col" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined} className="px-3 py-2 font-medium">
-                          {header.column.getCanSort() ? (
-                            <button type="button" onClick={header.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 uppercase">
-                              {flexRender(header.column.columnDef.header, header.getContext())}
-                              <span aria-hidden>{sorted === "asc" ? "▲" : sorted === "desc" ? "▼" : ""}</span>
-                            </button>
-                          ) : (
-                            flexRender(header.column.columnDef.header, header.getContext())
-                          )}
-                        </th>
-                      );
-                    })}
-                  </tr>
-                ))}
-              </thead>
-              <tbody className="divide-y divide-paper-200">
-                {table.getRowModel().rows.map((row) => (
-                  <tr key={row.id}>
-                    {row.getVisibleCells().map((cell) => (
-                      <td key={cell.id} className="px-3 py-2 align-middle">
-                        {flexRender(cell.column.columnDef.cell, cell.getContext())}
-                      </td>
-                    ))}
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
+          <DataTable
+            data={list.data.datasets}
+            columns={columns}
+            caption="Datasets"
+            server={{
+              sorting,
+              onSortingChange: (updater) => {
+                setSorting(updater);
+                setPage(1);
+              },
+            }}
+          />
         )}
         {list.data && list.data.total > list.data.pageSize && (
           <nav aria-label="Pages" className="flex items-center justify-end gap-3 text-sm">

@@ -1,17 +1,28 @@
 "use client";
 
-import { flexRender, getCoreRowModel, getSortedRowModel, useReactTable, type ColumnDef, type SortingState } from "@tanstack/react-table";
+import { flexRender, getCoreRowModel, getSortedRowModel, useReactTable, type ColumnDef, type OnChangeFn, type SortingState } from "@tanstack/react-table";
 import { useState } from "react";
 
-/** A light-page table: sortable headers (click or Enter), hairline rows, numbers right-aligned by the caller. */
-export function DataTable<T>({ data, columns, caption }: { data: T[]; columns: ColumnDef<T, unknown>[]; caption: string }) {
-  const [sorting, setSorting] = useState<SortingState>([]);
+interface ServerSorting {
+  /** Sorting done by the server (paged tables): the table only reports clicks. */
+  sorting: SortingState;
+  onSortingChange: OnChangeFn<SortingState>;
+}
+
+/**
+ * A light-page table: sortable headers (click or Enter), hairline rows, numbers right-aligned by the
+ * caller. Sorts in the browser, or with `server` hands sorting to the caller.
+ */
+export function DataTable<T>({ data, columns, caption, server }: { data: T[]; columns: ColumnDef<T, unknown>[]; caption: string; server?: ServerSorting }) {
+  const [localSorting, setLocalSorting] = useState<SortingState>([]);
   // eslint-disable-next-line react-hooks/incompatible-library -- TanStack Table returns fresh functions by design
   const table = useReactTable({
     data,
     columns,
-    state: { sorting },
-    onSortingChange: setSorting,
+    state: { sorting: server?.sorting ?? localSorting },
+    onSortingChange: server?.onSortingChange ?? setLocalSorting,
+    manualSorting: Boolean(server),
+    enableSortingRemoval: !server,
     getCoreRowModel: getCoreRowModel(),
     getSortedRowModel: getSortedRowModel(),
   });
@@ -29,7 +40,7 @@ export function DataTable<T>({ data, columns, caption }: { data: T[]; columns: C
                     key={header.id}
                     scope="col"
                     aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined}
-                    className="px-4 py-2 font-medium"
+                    className="px-3 py-2 font-medium"
                   >
                     {header.column.getCanSort() ? (
                       <button type="button" onClick={header.column.getToggleSortingHandler()} className="inline-flex items-center gap-1 uppercase">
@@ -49,7 +60,7 @@ export function DataTable<T>({ data, columns, caption }: { data: T[]; columns: C
           {table.getRowModel().rows.map((row) => (
             <tr key={row.id}>
               {row.getVisibleCells().map((cell) => (
-                <td key={cell.id} className="px-4 py-2 align-middle">
+                <td key={cell.id} className="px-3 py-2 align-middle">
                   {flexRender(cell.column.columnDef.cell, cell.getContext())}
                 </td>
               ))}

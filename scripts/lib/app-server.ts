@@ -4,6 +4,27 @@ import { spawn, type ChildProcess } from "node:child_process";
 import { join } from "node:path";
 import { root } from "./env";
 
+/** SIGTERM to the child's whole process group, SIGKILL after 5 s if it is still there. */
+async function stopProcessGroup(child: ChildProcess): Promise<void> {
+  if (child.exitCode !== null || child.pid === undefined) return;
+  const pid = child.pid;
+  const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
+  try {
+    process.kill(-pid, "SIGTERM");
+  } catch {
+    return;
+  }
+  const timer = setTimeout(() => {
+    try {
+      process.kill(-pid, "SIGKILL");
+    } catch {
+      /* already gone */
+    }
+  }, 5000);
+  await exited;
+  clearTimeout(timer);
+}
+
 export interface AppServer {
   url: string;
   child: ChildProcess;
@@ -29,24 +50,7 @@ export async function startAppServer(options: {
       NEXT_TELEMETRY_DISABLED: "1",
     },
   });
-  const stop = async () => {
-    if (child.exitCode !== null || child.pid === undefined) return;
-    const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
-    try {
-      process.kill(-child.pid, "SIGTERM");
-    } catch {
-      return;
-    }
-    const timer = setTimeout(() => {
-      try {
-        process.kill(-child.pid!, "SIGKILL");
-      } catch {
-        /* already gone */
-      }
-    }, 5000);
-    await exited;
-    clearTimeout(timer);
-  };
+  const stop = () => stopProcessGroup(child);
 
   const deadline = Date.now() + 120_000;
   while (Date.now() < deadline) {
@@ -71,24 +75,5 @@ export function startIngestWorker(env: Record<string, string> = {}): { stop(): P
     stdio: ["ignore", "ignore", "inherit"],
     env: { ...process.env, ...env },
   });
-  return {
-    stop: async () => {
-      if (child.exitCode !== null || child.pid === undefined) return;
-      const exited = new Promise<void>((resolve) => child.once("exit", () => resolve()));
-      try {
-        process.kill(-child.pid, "SIGTERM");
-      } catch {
-        return;
-      }
-      const timer = setTimeout(() => {
-        try {
-          process.kill(-child.pid!, "SIGKILL");
-        } catch {
-          /* gone */
-        }
-      }, 5000);
-      await exited;
-      clearTimeout(timer);
-    },
-  };
+  return { stop: () => stopProcessGroup(child) };
 }

@@ -2,16 +2,8 @@ import { describe, expect, test } from "vitest";
 import { singleHueTable } from "@/lib/imaging/colour-tables";
 import { addSaturate, compositeAdd, compositeAddClampedLanes, compositeMax, maxLanes } from "@/lib/imaging/composite";
 import { buildLut, buildRgbaLut, unpackRgba } from "@/lib/imaging/lut";
+import { rng } from "../helpers/rng";
 
-/** Small seeded PRNG (mulberry32, common practice) so the random cases repeat. */
-function rng(seed: number) {
-  return () => {
-    seed = (seed + 0x6d2b79f5) | 0;
-    let t = Math.imul(seed ^ (seed >>> 15), 1 | seed);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 const bytes = (w: number) => [w & 255, (w >>> 8) & 255, (w >>> 16) & 255, w >>> 24];
 
 describe("packed lane arithmetic", () => {

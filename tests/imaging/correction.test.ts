@@ -3,16 +3,8 @@ import { describe, expect, test } from "vitest";
 import { greyTable } from "@/lib/imaging/colour-tables";
 import { fitRangeFloat, flatDarkCorrect, floatHistogram, floatPercentiles, mapFloatToRgba } from "@/lib/imaging/correction";
 import { unpackRgba } from "@/lib/imaging/lut";
+import { rng } from "../helpers/rng";
 
-/** Small seeded PRNG (mulberry32, common practice) so the random cases repeat. */
-function rng(seed: number) {
-  return () => {
-    seed = (seed + 0x6d2b79f5) | 0;
-    let t = Math.imul(seed ^ (seed >>> 15), 1 | seed);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe("flatDarkCorrect (Murphy & Davidson: (raw − dark)/(flat − dark) × mean(flat − dark))", () => {
   test("matches a hand-computed example and marks a dead flat pixel invalid", () => {

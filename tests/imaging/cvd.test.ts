@@ -4,20 +4,12 @@ import { describe, expect, test } from "vitest";
 import { parseHex, toHex } from "@/lib/imaging/colour-tables";
 import { cvdMatrix, CVD_KINDS, DECODE_TABLE, ENCODE_TABLE, linearToSrgb, MACHADO_2009, simulateCvd, simulateCvdRgb, SRGB, srgbToLinear } from "@/lib/imaging/cvd";
 import { packRgba } from "@/lib/imaging/lut";
+import { rng } from "../helpers/rng";
 
 const ref = (name: string) => JSON.parse(readFileSync(resolve(import.meta.dirname, "../../../shared/reference", name), "utf8"));
 const machado = ref("cvd_machado2009.json");
 const srgb = ref("srgb_constants.json");
 
-/** Small seeded PRNG (mulberry32, common practice) so the random cases repeat. */
-function rng(seed: number) {
-  return () => {
-    seed = (seed + 0x6d2b79f5) | 0;
-    let t = Math.imul(seed ^ (seed >>> 15), 1 | seed);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe("Machado, Oliveira & Fernandes (2009) matrices", () => {
   test("equal the published table exactly, every severity 0.0 … 1.0 (reference JSON)", () => {

@@ -2,16 +2,8 @@ import { quantile } from "d3-array";
 import { describe, expect, test } from "vitest";
 import { fitRange, regionHistogram } from "@/lib/imaging/fit";
 import { histogram16 } from "@/lib/imaging/histogram";
+import { rng } from "../helpers/rng";
 
-/** Small seeded PRNG (mulberry32, common practice) so the random cases repeat. */
-function rng(seed: number) {
-  return () => {
-    seed = (seed + 0x6d2b79f5) | 0;
-    let t = Math.imul(seed ^ (seed >>> 15), 1 | seed);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe("fitRange", () => {
   test("lands within one count of d3-array's type-7 quantiles, rounding outwards (Hyndman & Fan 1996)", () => {

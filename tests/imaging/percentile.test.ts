@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, test } from "vitest";
 import { histogram16, mergeHistograms } from "@/lib/imaging/histogram";
 import { percentileFromHistogram, percentiles, STANDARD_PERCENTILES } from "@/lib/imaging/percentile";
 import { loadStackFixture, PERCENTS, type StackFixture } from "./stack-fixture";
+import { rng } from "../helpers/rng";
 
 // R. J. Hyndman & Y. Fan (1996), "Sample quantiles in statistical packages", The American Statistician 50(4):361–365.
 const hf = JSON.parse(readFileSync(resolve(import.meta.dirname, "../../../shared/reference/quantile_hyndman_fan_type7.json"), "utf8")) as {
@@ -14,15 +15,6 @@ const hf = JSON.parse(readFileSync(resolve(import.meta.dirname, "../../../shared
 
 const hist = (x: number[]) => histogram16(Uint16Array.from(x));
 
-/** Small seeded PRNG (mulberry32, common practice) so the random cases repeat. */
-function rng(seed: number) {
-  return () => {
-    seed = (seed + 0x6d2b79f5) | 0;
-    let t = Math.imul(seed ^ (seed >>> 15), 1 | seed);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe("percentileFromHistogram, Hyndman & Fan (1996) type 7", () => {
   test.each(["even", "odd"] as const)("reproduces the %s example of d3-array's test suite (reference JSON)", (name) => {
