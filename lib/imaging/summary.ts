@@ -1,5 +1,5 @@
 import type { Histogram } from "./histogram";
-import { statsFromHistogram } from "./histogram";
+import { countAt, statsFromHistogram } from "./histogram";
 import { percentiles, STANDARD_PERCENTILES } from "./percentile";
 
 export interface CompactHistogram {
@@ -45,4 +45,24 @@ export function summarise(hist: Histogram, ceiling: number): PlaneSummary {
     percentiles: Object.fromEntries(STANDARD_PERCENTILES.map((p, i) => [String(p), values[i]])),
     histogram: compactHistogram(hist, ceiling),
   };
+}
+
+/**
+ * The same summary for several candidate ceilings at once (the ingest does not know the ceiling until
+ * the whole stack is read): statistics and percentiles are computed once, only the counts at each
+ * ceiling and the compact histograms differ.
+ */
+export function summariseForCeilings(hist: Histogram, ceilings: readonly number[]): Map<number, PlaneSummary> {
+  const stats = statsFromHistogram(hist);
+  const values = percentiles(hist, STANDARD_PERCENTILES, stats.count);
+  const shared = {
+    count: stats.count,
+    min: stats.min,
+    max: stats.max,
+    mean: stats.mean,
+    sd: stats.sd,
+    countAtZero: stats.countAtZero,
+    percentiles: Object.fromEntries(STANDARD_PERCENTILES.map((p, i) => [String(p), values[i]])),
+  };
+  return new Map(ceilings.map((ceiling) => [ceiling, { ...shared, countAtCeiling: countAt(hist, ceiling), histogram: compactHistogram(hist, ceiling) }]));
 }

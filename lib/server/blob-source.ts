@@ -17,6 +17,8 @@ export function blobByteSource(store: BlobStore, key: string, size: number): Byt
       if (length <= 0) return new ArrayBuffer(0);
       const end = Math.min(offset + length, size) - 1;
       const buf = await collect(await store.get(key, { start: offset, end }));
+      // Buffer.concat gives large results their own ArrayBuffer: hand it over without another copy.
+      if (buf.byteOffset === 0 && buf.buffer.byteLength === buf.byteLength) return buf.buffer as ArrayBuffer;
       return buf.buffer.slice(buf.byteOffset, buf.byteOffset + buf.byteLength) as ArrayBuffer;
     },
   };

@@ -5,9 +5,9 @@ import { ceilingFor } from "@/lib/imaging/ceiling";
 import { histogram16, mergeHistograms, statsFromHistogram, type Histogram } from "@/lib/imaging/histogram";
 import { compositeAdditive, downscaleRgba } from "@/lib/imaging/mapping";
 import { defaultChannelColour, hexToRgb } from "@/lib/imaging/palettes";
-import { summarise, type PlaneSummary } from "@/lib/imaging/summary";
+import { summarise, summariseForCeilings, type PlaneSummary } from "@/lib/imaging/summary";
 import { windowedSource } from "@/lib/tiff/byte-source";
-import { decodeIfd } from "@/lib/tiff/decode";
+import { scanPlanes } from "@/lib/tiff/scan";
 import { DIMENSION_ORDERS, OmeXmlError, parseOmeXml, planeIndex, type DimensionOrder, type OmeImage } from "@/lib/tiff/ome";
 import { compressionName, readTiffStructure, TiffFormatError, type IfdInfo } from "@/lib/tiff/structure";
 import type { ChannelInfo, Dataset } from "@/models";
@@ -168,22 +168,23 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
   const thumbPlanes: { c: number; data: Uint8Array | Uint16Array | Float32Array }[] = [];
   let stackMax = 0;
 
-  for (let i = 0; i < planes.length; i++) {
+  const scan = scanPlanes(raw, structure, planes, { signal: options.signal, inflate: nativeInflate });
+  for (;;) {
     options.signal?.throwIfAborted();
-    const ifd = planes[i];
-    const { c, z, t } = planeIndex(dims.order, { sizeC: dims.sizeC, sizeZ: dims.sizeZ, sizeT: dims.sizeT }, i);
-    let decoded;
+    let step;
     try {
-      decoded = await decodeIfd(raw, structure, ifd, options.signal, nativeInflate);
+      step = await scan.next();
     } catch (error) {
-      if (error instanceof TiffFormatError) throw new IngestError(`Plane ${i + 1}: ${error.message}`);
+      if (error instanceof TiffFormatError) throw new IngestError(`Plane ${pending.length + 1}: ${error.message}`);
       throw error;
     }
+    if (step.done) break;
+    const { index: i, ifd, plane: decoded } = step.value;
+    const { c, z, t } = planeIndex(dims.order, { sizeC: dims.sizeC, sizeZ: dims.sizeZ, sizeT: dims.sizeT }, i);
     const hist = histogram16(decoded.data as Uint16Array | Uint8Array, bits === 8 ? 256 : 65536);
     const channelHist = channelHists[c];
     for (let v = 0; v < hist.length; v++) if (hist[v]) channelHist[v] += hist[v];
-    const byCeiling = new Map<number, PlaneSummary>();
-    for (const ceiling of candidates) byCeiling.set(ceiling, summarise(hist, ceiling));
+    const byCeiling = summariseForCeilings(hist, candidates);
     stackMax = Math.max(stackMax, byCeiling.get(candidates[0])!.max);
     pending.push({ ifd, c, z, t, byCeiling });
     if (z === thumbZ && t === 0) thumbPlanes.push({ c, data: decoded.data });

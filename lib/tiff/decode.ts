@@ -81,7 +81,19 @@ export async function decodeIfd(
   const dataBytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
 
   const blocks = layout.offsets.map((offset, i) => ({ i, offset, length: layout.byteCounts[i] }));
-  for (const { start, length, members } of mergeReads(blocks)) {
+  const groups = mergeReads(blocks);
+
+  // The common case of a camera file: one plane's strips stored back to back, in order. One read
+  // then holds the plane exactly, and its buffer becomes the plane without any copy.
+  const planeBytes = width * height * bytesPerValue;
+  if (direct && groups.length === 1 && isContiguousInOrder(blocks) && blocks.reduce((n, b) => n + b.length, 0) === planeBytes) {
+    const buf = await source.read(groups[0].start, planeBytes, signal);
+    if (buf.byteLength < planeBytes) throw new TiffFormatError(`The file ended inside the pixel data of the plane at byte ${ifd.offset}`);
+    const view = float ? new Float32Array(buf, 0, width * height) : bits === 16 ? new Uint16Array(buf, 0, width * height) : new Uint8Array(buf, 0, width * height);
+    return { width, height, data: view };
+  }
+
+  for (const { start, length, members } of groups) {
     const buf = length > 0 ? await source.read(start, length, signal) : new ArrayBuffer(0);
     if (buf.byteLength < length) throw new TiffFormatError(`The file ended inside the pixel data of the plane at byte ${ifd.offset}`);
     for (const b of members) {
@@ -215,6 +227,11 @@ interface Block {
   i: number;
   offset: number;
   length: number;
+}
+
+function isContiguousInOrder(blocks: readonly Block[]): boolean {
+  for (let k = 1; k < blocks.length; k++) if (blocks[k].offset !== blocks[k - 1].offset + blocks[k - 1].length) return false;
+  return true;
 }
 
 function mergeReads(blocks: Block[]): { start: number; length: number; members: Block[] }[] {

@@ -15,6 +15,7 @@ import { createRandom } from "@/lib/imaging/random";
 import { DEMO_CAMERA, DEMO_CHANNELS, exposeCamera, makeScene, renderSignal } from "@/lib/imaging/synthetic";
 import type { ByteSource } from "@/lib/tiff/byte-source";
 import { decodePlane } from "@/lib/tiff/decode";
+import { scanPlanes } from "@/lib/tiff/scan";
 import { fileSource } from "@/lib/tiff/file-source";
 import { readTiffHeader, readTiffStructure } from "@/lib/tiff/structure";
 import { createTiffWriter, type TiffWriteOptions } from "@/lib/tiff/writer";
@@ -73,8 +74,9 @@ async function statsPass(path: string): Promise<number> {
     const structure = await readTiffStructure(src);
     const header = await readTiffHeader(src);
     let pixels = 0;
-    for (const ifd of structure.ifds) {
-      const { data } = await decodePlane(src, ifd.offset, { header, inflate: inflateSync });
+    // The ingest's own loop: one plane of lookahead, so reading overlaps counting (lib/tiff/scan.ts).
+    for await (const { plane } of scanPlanes(src, header, structure.ifds, { inflate: inflateSync })) {
+      const data = plane.data;
       const h = histogram16(data as Uint16Array);
       const s = statsFromHistogram(h, DEMO_CAMERA.ceiling);
       percentiles(h, STANDARD_PERCENTILES, s.count);
