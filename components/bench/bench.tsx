@@ -3,7 +3,7 @@
 import { useQuery } from "@tanstack/react-query";
 import { get as idbGet, set as idbSet } from "idb-keyval";
 import Link from "next/link";
-import { useRouter, useSearchParams } from "next/navigation";
+import { useSearchParams } from "next/navigation";
 import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { api } from "@/lib/client/api";
 import { useDataset } from "@/lib/client/datasets";
@@ -33,7 +33,6 @@ function formatTime(seconds: number): string {
 }
 
 export function Bench({ labId, datasetId }: { labId: number; datasetId: number }) {
-  const router = useRouter();
   const search = useSearchParams();
   const datasetQuery = useDataset(datasetId);
   const planesQuery = useQuery({
@@ -114,9 +113,11 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   useEffect(() => {
     if (!channels) return;
     const params = new URLSearchParams({ z: String(z), t: String(t), ch: channels.filter((c) => c.visible).map((c) => c.c).join(",") });
-    const handle = setTimeout(() => router.replace(`?${params}`, { scroll: false }), 300);
+    // history.replaceState (which Next keeps in step with useSearchParams) rather than router.replace:
+    // a router navigation fired by this timer could cancel a navigation the person just started.
+    const handle = setTimeout(() => window.history.replaceState(window.history.state, "", `?${params}`), 300);
     return () => clearTimeout(handle);
-  }, [z, t, channels, router]);
+  }, [z, t, channels]);
 
   useEffect(() => {
     if (!dataset || !planesQuery.data || opened) return;

@@ -78,6 +78,7 @@ describe("the library in the browser", () => {
     await page.getByRole("link", { name: "stack", exact: true }).click();
     // The title opens the bench; the details page is one click from there.
     await page.getByRole("link", { name: "Details" }).click();
+    await page.waitForURL(/\/details$/);
     await page.getByRole("heading", { name: "stack", exact: true }).waitFor();
     const digest = sha256(new Uint8Array(readFileSync(fixture.omePath)));
     await page.getByText(digest).waitFor();
