@@ -2,6 +2,7 @@
 
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { DatasetOut, UpdateDatasetBody } from "@/lib/schemas/dataset";
+import type { StatColumns } from "@/models/plane";
 import type { Role } from "@/lib/permissions";
 import { api } from "./api";
 
@@ -13,17 +14,8 @@ export interface DatasetList {
   experiments: string[];
 }
 
-export interface ChannelStatOut {
-  c: number;
-  min: number | null;
-  max: number | null;
-  mean: number | null;
-  sd: number | null;
-  countAtCeiling: number | null;
-  countAtZero: number | null;
-  percentiles: Record<string, number> | null;
-  histogram: { binWidth: number; counts: number[] } | null;
-}
+/** Statistics of one channel over the whole stack, as stored at ingest (the type only; no model code reaches the browser). */
+export type ChannelStatOut = { c: number } & StatColumns;
 
 const busy = (d: DatasetOut) => d.status === "queued" || d.status === "ingesting";
 
