@@ -8,12 +8,14 @@ import { Invitation } from "./invitation";
 import { Lab } from "./lab";
 import { Membership } from "./membership";
 import { PasswordReset } from "./password-reset";
+import { Preset } from "./preset";
 import { User } from "./user";
+import { ViewState } from "./view-state";
 
 export type { ChannelInfo, DatasetStatus } from "./dataset";
-export { AuditEvent, ChannelStat, Dataset, Invitation, Job, Lab, Membership, PasswordReset, Plane, Upload, UploadPart, User };
+export { AuditEvent, ChannelStat, Dataset, Invitation, Job, Lab, Membership, PasswordReset, Plane, Preset, Upload, UploadPart, User, ViewState };
 
-export const models = { User, Lab, Membership, Invitation, PasswordReset, AuditEvent, Dataset, Plane, ChannelStat, Upload, UploadPart, Job };
+export const models = { User, Lab, Membership, Invitation, PasswordReset, AuditEvent, Dataset, Plane, ChannelStat, Upload, UploadPart, Job, Preset, ViewState };
 export type Models = typeof models;
 
 /** Binds every model to one Sequelize instance and declares the associations. Call once per process. */
@@ -29,5 +31,9 @@ export function initModels(sequelize: Sequelize): Models {
   Dataset.belongsTo(User, { as: "uploadedBy", foreignKey: "uploadedById" });
   Dataset.hasMany(Plane, { as: "planes", foreignKey: "datasetId" });
   Dataset.hasMany(ChannelStat, { as: "channelStats", foreignKey: "datasetId" });
+  Preset.belongsTo(Lab, { as: "lab", foreignKey: "labId" });
+  Preset.belongsTo(User, { as: "owner", foreignKey: "ownerId" });
+  ViewState.belongsTo(User, { as: "user", foreignKey: "userId" });
+  ViewState.belongsTo(Dataset, { as: "dataset", foreignKey: "datasetId" });
   return models;
 }

@@ -46,6 +46,22 @@ const uploader = (ctx: Ctx) => (ctx.who === "editor" || ctx.who === "owner" ? ct
 const freshUpload = async (ctx: Ctx) => startUpload(uploader(ctx), ctx.lab.labId, tiff, { fileName: "matrix.tif", partSize: 1024, dimensions: { sizeC: 1, sizeZ: 1, sizeT: 2, order: "XYCZT" } });
 const U = (ctx: Ctx, id: string) => `${L(ctx)}/uploads/${id}`;
 
+// Presets: every mutating cell gets its own lab preset, made by the owner under a fresh name.
+const presetBody = (scope: "private" | "lab") => ({
+  name: `Matrix ${scope} ${Math.random().toString(36).slice(2, 10)}`,
+  scope,
+  blend: "add",
+  channels: [{ match: { index: 0 }, visible: true, colour: "#00ff00", tableId: null, gamma: 1, range: { mode: "counts", black: 10, white: 4000 } }],
+});
+const labPreset = async (ctx: Ctx) => {
+  const reply = await ctx.lab.owner.post(`${L(ctx)}/presets`, presetBody("lab"));
+  if (reply.status !== 201) throw new Error(`lab preset: ${reply.status} ${JSON.stringify(reply.body)}`);
+  return reply.body.preset.id as number;
+};
+const P = (ctx: Ctx, id: number) => `${L(ctx)}/presets/${id}`;
+const viewBody = { z: 0, t: 1, blend: "add", channels: [{ c: 0, visible: true, colour: "#00ff00", tableId: null, gamma: 1, black: 10, white: 4000 }] };
+const isMember = (who: Actor) => who === "viewer" || who === "editor" || who === "owner";
+
 // Public routes answer the same to everyone. Lab routes: anonymous 401, a member whose role lacks the
 // action 403, a member of another lab 404 (as if the lab did not exist). Mutating cells get fresh
 // targets so no cell depends on another one's outcome.
@@ -106,6 +122,24 @@ const table: [method: string, route: string, statuses: Statuses, target: Target]
   ["GET",    "/api/datasets/[datasetId]/planes",                    [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/planes` })],
   ["GET",    "/api/datasets/[datasetId]/thumbnail",                 [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/thumbnail` })],
   ["POST",   "/api/datasets/[datasetId]/verify",                    [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/verify`, body: {} })],
+  ["GET",    "/api/labs/[labId]/presets",                           [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/presets` })],
+  // Creating a lab preset needs presets.edit; private presets (any member) are covered in presets.test.ts.
+  ["POST",   "/api/labs/[labId]/presets",                           [401, 403, 201, 201, 404], async (c) => ({ path: `${L(c)}/presets`, body: presetBody("lab") })],
+  ["GET",    "/api/labs/[labId]/presets/[presetId]",                [401, 200, 200, 200, 404], async (c) => ({ path: P(c, await labPreset(c)) })],
+  ["PATCH",  "/api/labs/[labId]/presets/[presetId]",                [401, 403, 200, 200, 404],
+    async (c) => ({ path: P(c, await labPreset(c)), body: { version: 1, name: `Renamed by ${c.who} ${Math.random().toString(36).slice(2, 8)}` } })],
+  ["DELETE", "/api/labs/[labId]/presets/[presetId]",                [401, 403, 204, 204, 404], async (c) => ({ path: P(c, await labPreset(c)) })],
+  ["POST",   "/api/labs/[labId]/presets/[presetId]/duplicate",      [401, 201, 201, 201, 404], async (c) => ({ path: `${P(c, await labPreset(c))}/duplicate`, body: {} })],
+  // Members read the view they saved themselves; nobody else can save one for them.
+  ["GET",    "/api/datasets/[datasetId]/view",                      [401, 200, 200, 200, 404],
+    async (c) => {
+      if (isMember(c.who)) {
+        const saved = await c.client.request("PUT", `${D(c.datasetId)}/view`, viewBody);
+        if (saved.status !== 200) throw new Error(`save view: ${saved.status} ${JSON.stringify(saved.body)}`);
+      }
+      return { path: `${D(c.datasetId)}/view` };
+    }],
+  ["PUT",    "/api/datasets/[datasetId]/view",                      [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/view`, body: viewBody })],
 ];
 
 /** Every "METHOD /api/…" that a route.ts under app/api exports, except next-auth's own handler. */
