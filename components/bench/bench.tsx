@@ -5,13 +5,14 @@ import { get as idbGet, set as idbSet } from "idb-keyval";
 import Link from "next/link";
 import { useSearchParams } from "next/navigation";
 import { useCallback, useEffect, useMemo, useRef, useState } from "react";
-import { api } from "@/lib/client/api";
+import { api, ApiError } from "@/lib/client/api";
 import { useDataset } from "@/lib/client/datasets";
 import { useBenchWorker } from "@/lib/client/use-bench-worker";
 import { chooseMarkColours } from "@/lib/imaging/clip-marks";
 import { CVD_WARNING_THRESHOLD, minPairDistance } from "@/lib/imaging/colour-difference";
 import { findTable, safeChannelColours, singleHueTable, toHex } from "@/lib/imaging/colour-tables";
 import type { CvdKind } from "@/lib/imaging/cvd";
+import type { ViewStateOut } from "@/lib/schemas/preset";
 import { hexToRgb } from "@/lib/imaging/palettes";
 import type { BenchPlaneRef, BenchRender, RawValue } from "@/workers/bench-api";
 import { ChannelCard, type ChannelState } from "./channel-card";
@@ -86,24 +87,69 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const viewport = useRef<ViewportHandle>(null);
   const storageKey = `bench:${datasetId}`;
 
-  // Channel mappings: unsaved edits survive a reload (IndexedDB); otherwise Fit from the stack statistics.
+  // Each person's last view of this dataset is kept on the server (restored when they return);
+  // unsaved edits also survive a reload through IndexedDB. Without either: Fit from the stack statistics.
+  const savedView = useQuery({
+    queryKey: ["datasets", datasetId, "view"],
+    queryFn: async () => {
+      try {
+        return (await api<{ view: ViewStateOut }>(`/api/datasets/${datasetId}/view`)).view;
+      } catch (e) {
+        if (e instanceof ApiError && e.status === 404) return null;
+        throw e;
+      }
+    },
+    staleTime: Infinity,
+    retry: false,
+  });
   useEffect(() => {
-    if (!datasetQuery.data || channels) return;
+    if (!datasetQuery.data || channels || savedView.isPending) return;
     const { dataset: d, channelStats } = datasetQuery.data;
     const visibleFromUrl = search.get("ch")?.split(",").map(Number);
     void idbGet<ChannelState[]>(storageKey)
       .catch(() => undefined)
       .then((saved) => {
-        const defaults = (d.channels ?? []).map((ch, c) => {
+        const defaults: ChannelState[] = (d.channels ?? []).map((ch, c) => {
           const s = channelStats.find((x) => x.c === c);
           const black = Math.round(s?.percentiles?.["0.1"] ?? 0);
           const white = Math.max(black + 1, Math.round(s?.percentiles?.["99.9"] ?? d.ceiling ?? 65535));
           return { c, name: ch.name, colour: ch.colour.toLowerCase(), visible: true, black, white, gamma: 1, tableId: null };
         });
-        const base = saved && saved.length === defaults.length ? saved.map((ch) => ({ ...ch, gamma: ch.gamma ?? 1, tableId: ch.tableId ?? null })) : defaults;
+        const server = savedView.data;
+        let base = defaults;
+        if (server && server.channels.length === defaults.length) {
+          base = defaults.map((ch) => {
+            const v = server.channels.find((x) => x.c === ch.c);
+            return v ? { ...ch, visible: v.visible, colour: v.colour.toLowerCase(), tableId: v.tableId, gamma: v.gamma, black: v.black, white: v.white } : ch;
+          });
+          if (search.get("z") === null) setZ(Math.min(server.z, (d.sizeZ ?? 1) - 1));
+          if (search.get("t") === null) setT(Math.min(server.t, (d.sizeT ?? 1) - 1));
+          setComposite(server.blend);
+        } else if (saved && saved.length === defaults.length) {
+          base = saved.map((ch) => ({ ...ch, gamma: ch.gamma ?? 1, tableId: ch.tableId ?? null }));
+        }
         setChannels(visibleFromUrl ? base.map((ch) => ({ ...ch, visible: visibleFromUrl.includes(ch.c) })) : base);
       });
-  }, [datasetQuery.data, channels, search, storageKey]);
+  }, [datasetQuery.data, channels, search, storageKey, savedView.isPending, savedView.data]);
+
+  // Saves the view a second after the last change; a failed save is retried on the next change.
+  const [viewSaved, setViewSaved] = useState<"saved" | "failed" | null>(null);
+  useEffect(() => {
+    if (!channels) return;
+    const handle = setTimeout(() => {
+      const body = {
+        z,
+        t,
+        blend: composite,
+        channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, colour: ch.colour, tableId: ch.tableId, gamma: ch.gamma, black: ch.black, white: ch.white })),
+      };
+      api(`/api/datasets/${datasetId}/view`, { method: "PUT", body }).then(
+        () => setViewSaved("saved"),
+        () => setViewSaved("failed"),
+      );
+    }, 1000);
+    return () => clearTimeout(handle);
+  }, [channels, z, t, composite, datasetId]);
 
   useEffect(() => {
     if (channels) void idbSet(storageKey, channels).catch(() => undefined);
@@ -572,7 +618,10 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
           <input type="checkbox" checked={loop} onChange={(e) => setLoop(e.target.checked)} className="accent-flux-500" />
           loop
         </label>
-        {firstDrawMs !== null && <span className="num ml-auto text-graphite-300">first plane drawn in {firstDrawMs} ms</span>}
+        <span className="ml-auto text-graphite-300" role="status">
+          {viewSaved === "saved" ? "View saved" : viewSaved === "failed" ? "View not saved (will retry)" : ""}
+        </span>
+        {firstDrawMs !== null && <span className="num text-graphite-300">first plane drawn in {firstDrawMs} ms</span>}
       </div>
       {help && <HelpOverlay onClose={() => setHelp(false)} />}
     </div>

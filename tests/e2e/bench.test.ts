@@ -191,4 +191,28 @@ describe("the bench", () => {
     await expect.poll(() => new URL(page.url()).searchParams.get("t")).not.toBeNull();
     await screenshot(page, "bench-02-after-play");
   });
+
+  it("saves the person's view on the server and restores it on another machine", async () => {
+    const page = person.page;
+    const membrane = page.getByRole("region", { name: "Channel membrane" });
+    await membrane.getByRole("spinbutton", { name: "Gamma" }).fill("0.7");
+    await page.getByRole("status").filter({ hasText: "View saved" }).waitFor();
+    // A second browser profile has no IndexedDB of its own: what it shows comes from the server.
+    const other = await openBrowser();
+    try {
+      const p2 = other.page;
+      await p2.goto(`${baseUrl}/signin`);
+      await p2.locator("form[data-ready]").waitFor();
+      await p2.getByLabel("E-mail").fill(lab.viewer.email);
+      await p2.getByLabel("Password").fill(lab.viewer.password);
+      await p2.getByRole("button", { name: "Sign in" }).click();
+      await p2.waitForURL(`${baseUrl}/labs`);
+      await p2.goto(`${baseUrl}/labs/${lab.labId}/datasets/${datasetId}`);
+      const m2 = p2.getByRole("region", { name: "Channel membrane" });
+      await expect.poll(() => m2.getByRole("spinbutton", { name: "Gamma" }).inputValue(), { timeout: 20_000 }).toBe("0.7");
+      await expect(p2.getByLabel("Colour of nuclei").inputValue()).resolves.toBe("#ff00ff");
+    } finally {
+      await other.close();
+    }
+  });
 });
