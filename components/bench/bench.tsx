@@ -12,7 +12,9 @@ import { chooseMarkColours } from "@/lib/imaging/clip-marks";
 import { CVD_WARNING_THRESHOLD, minPairDistance } from "@/lib/imaging/colour-difference";
 import { findTable, safeChannelColours, singleHueTable, toHex } from "@/lib/imaging/colour-tables";
 import type { CvdKind } from "@/lib/imaging/cvd";
-import type { ViewStateOut } from "@/lib/schemas/preset";
+import type { PresetChannel, ViewStateOut } from "@/lib/schemas/preset";
+import { matchPresetChannels, useCreatePreset, usePresets } from "@/lib/client/presets";
+import { can } from "@/lib/permissions";
 import { hexToRgb } from "@/lib/imaging/palettes";
 import type { BenchPlaneRef, BenchRender, RawValue } from "@/workers/bench-api";
 import { ChannelCard, type ChannelState } from "./channel-card";
@@ -134,6 +136,9 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
 
   // Saves the view a second after the last change; a failed save is retried on the next change.
   const [viewSaved, setViewSaved] = useState<"saved" | "failed" | null>(null);
+  const presets = usePresets(labId);
+  const createPreset = useCreatePreset(labId);
+  const [presetNote, setPresetNote] = useState<string | null>(null);
   useEffect(() => {
     if (!channels) return;
     const handle = setTimeout(() => {
@@ -324,6 +329,62 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     [bench, z, t, updateChannel, fitScope, fitLow, fitHigh, datasetQuery.data, correction.on, correctionReady],
   );
 
+  // Applies a preset: channels matched by name, then emission wavelength, then index; percentile
+  // ranges are resolved on this plane's exact histogram (Fit), count ranges used as they are.
+  const applyPreset = useCallback(
+    async (id: number) => {
+      const preset = presets.data?.find((p) => p.id === id);
+      if (!preset || !channels || !dataset) return;
+      const refs = channels.map((ch) => ({ c: ch.c, name: ch.name, emissionNm: dataset.channels?.[ch.c]?.emissionNm ?? null }));
+      const { pairs, unmatched } = matchPresetChannels(preset.channels, refs);
+      const updates = new Map<number, Partial<ChannelState>>();
+      for (const { preset: pc, c } of pairs) {
+        let range: { black: number; white: number };
+        if (pc.range.mode === "counts") range = { black: pc.range.black, white: pc.range.white };
+        else {
+          const [lo, hi] = await bench.percentiles(z, t, c, [pc.range.low, pc.range.high]);
+          range = { black: Math.floor(lo), white: Math.max(Math.ceil(hi), Math.floor(lo) + 1) };
+        }
+        updates.set(c, { visible: pc.visible, colour: pc.colour.toLowerCase(), tableId: pc.tableId, gamma: pc.gamma, ...range });
+      }
+      setChannels((all) => all?.map((ch) => ({ ...ch, ...(updates.get(ch.c) ?? {}) })) ?? all);
+      setComposite(preset.blend);
+      const how = pairs.map((p) => `${channels.find((ch) => ch.c === p.c)?.name} by ${p.by}`).join(", ");
+      setPresetNote(`Applied "${preset.name}": ${how || "no channel"}${unmatched.length ? `; ${unmatched.length} preset channel${unmatched.length === 1 ? "" : "s"} matched nothing here` : ""}.`);
+    },
+    [presets.data, channels, dataset, bench, z, t],
+  );
+
+  const savePreset = useCallback(
+    async (scope: "private" | "lab") => {
+      if (!channels || !dataset) return;
+      const name = window.prompt(scope === "lab" ? "Name of the lab preset" : "Name of your preset");
+      if (!name?.trim()) return;
+      const body = {
+        name: name.trim(),
+        scope,
+        blend: composite,
+        channels: channels.map(
+          (ch): PresetChannel => ({
+            match: { name: ch.name, emissionNm: dataset.channels?.[ch.c]?.emissionNm ?? null, index: ch.c },
+            visible: ch.visible,
+            colour: ch.colour,
+            tableId: ch.tableId,
+            gamma: ch.gamma,
+            range: { mode: "counts", black: ch.black, white: ch.white },
+          }),
+        ),
+      };
+      try {
+        await createPreset.mutateAsync(body);
+        setPresetNote(`Saved "${body.name}" (${scope === "lab" ? "shared with the lab" : "only you"}).`);
+      } catch (e) {
+        setPresetNote(e instanceof Error ? e.message : String(e));
+      }
+    },
+    [channels, dataset, composite, createPreset],
+  );
+
   const onPointer = useCallback(
     (point: { x: number; y: number } | null) => {
       if (!point || !opened) return setReadout(null);
@@ -407,6 +468,30 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         <h1 className="font-medium text-white">{dataset.title}</h1>
         {dataset.lossy && <span className="rounded bg-fault-700 px-1.5 py-0.5 text-xs font-semibold text-white">lossy — not for quantification</span>}
         <span className="ml-auto flex items-center gap-3">
+          <label className="flex items-center gap-1 text-xs text-graphite-200">
+            Preset
+            <select
+              aria-label="Preset"
+              value=""
+              onChange={(e) => {
+                const v = e.target.value;
+                if (v === "save-private") void savePreset("private");
+                else if (v === "save-lab") void savePreset("lab");
+                else if (v) void applyPreset(Number(v));
+              }}
+              className="max-w-40 rounded border border-graphite-600 bg-graphite-900 px-1 py-0.5 text-xs"
+            >
+              <option value="">choose…</option>
+              {presets.data?.map((p) => (
+                <option key={p.id} value={p.id}>
+                  {p.name}
+                  {p.scope === "lab" ? " (lab)" : ""}
+                </option>
+              ))}
+              <option value="save-private">Save current as my preset…</option>
+              {can(datasetQuery.data?.role, "presets.edit") && <option value="save-lab">Save current as lab preset…</option>}
+            </select>
+          </label>
           <label className="flex items-center gap-1 text-xs text-graphite-200">
             Blend
             <select value={composite} onChange={(e) => setComposite(e.target.value as "add" | "max")} className="rounded border border-graphite-600 bg-graphite-900 px-1 py-0.5 text-xs">
@@ -618,6 +703,11 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
           <input type="checkbox" checked={loop} onChange={(e) => setLoop(e.target.checked)} className="accent-flux-500" />
           loop
         </label>
+        {presetNote && (
+          <span role="status" className="text-graphite-200">
+            {presetNote}
+          </span>
+        )}
         <span className="ml-auto text-graphite-300" role="status">
           {viewSaved === "saved" ? "View saved" : viewSaved === "failed" ? "View not saved (will retry)" : ""}
         </span>

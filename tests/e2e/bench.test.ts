@@ -215,4 +215,29 @@ describe("the bench", () => {
       await other.close();
     }
   });
+
+  it("saves the mappings as a private preset, applies it back, and lists it on the Presets page", async () => {
+    const page = person.page;
+    const preset = page.getByLabel("Preset", { exact: true });
+    // A viewer may keep private presets but not share one with the lab.
+    expect(await preset.locator("option[value='save-lab']").count()).toBe(0);
+    const nuclei = page.getByRole("region", { name: "Channel nuclei" });
+    await nuclei.getByRole("spinbutton", { name: "Black point" }).fill("150");
+    await nuclei.getByRole("spinbutton", { name: "White point" }).fill("900");
+    page.once("dialog", (dialog) => void dialog.accept("Nuclei 150–900"));
+    await preset.selectOption("save-private");
+    await page.getByText('Saved "Nuclei 150–900" (only you).').waitFor();
+
+    await nuclei.getByRole("button", { name: "Full" }).click();
+    await expect.poll(() => nuclei.getByRole("spinbutton", { name: "White point" }).inputValue()).toBe("4095");
+    await preset.selectOption({ label: "Nuclei 150–900" });
+    await page.getByText(/Applied "Nuclei 150–900": nuclei by name, membrane by name\./).waitFor();
+    await expect(nuclei.getByRole("spinbutton", { name: "Black point" }).inputValue()).resolves.toBe("150");
+    await expect(nuclei.getByRole("spinbutton", { name: "White point" }).inputValue()).resolves.toBe("900");
+
+    await page.goto(`${baseUrl}/labs/${lab.labId}/presets`);
+    await page.getByRole("cell", { name: "Nuclei 150–900", exact: true }).waitFor();
+    await expect(page.getByRole("row").filter({ hasText: "Nuclei 150–900" }).getByText("only you").count()).resolves.toBe(1);
+    await screenshot(page, "presets-01-page");
+  });
 });

@@ -1,12 +1,10 @@
-import { EmptyState, PageHeader } from "@/components/ui/states";
+import { PresetsPage } from "@/components/presets/presets-page";
+import { labPage } from "@/lib/server/pages";
 
 export const metadata = { title: "Presets" };
 
-export default function Page() {
-  return (
-    <>
-      <PageHeader title="Presets" description="Named sets of channel mappings (black and white points, colour tables) that you can apply to any dataset." />
-      <EmptyState title="No presets yet">Presets are not part of this version of Fluxframe yet. They will appear here once the viewer can save mappings.</EmptyState>
-    </>
-  );
+export default async function Page({ params }: { params: Promise<{ labId: string }> }) {
+  const { labId } = await params;
+  const { lab, role, user } = await labPage(labId, "presets.read");
+  return <PresetsPage labId={lab.id} role={role} userId={user.id} />;
 }
