@@ -15,6 +15,20 @@ export interface StatColumns {
   histogram: { binWidth: number; counts: number[] } | null;
 }
 
+/** Just the statistic columns of a summary or a row (writing planes at ingest, reading them back). */
+export function statColumnsOf(s: StatColumns): StatColumns {
+  return {
+    min: s.min,
+    max: s.max,
+    mean: s.mean,
+    sd: s.sd,
+    countAtCeiling: s.countAtCeiling,
+    countAtZero: s.countAtZero,
+    percentiles: s.percentiles,
+    histogram: s.histogram,
+  };
+}
+
 export const statAttributes = {
   min: { type: DataTypes.DOUBLE, allowNull: true },
   max: { type: DataTypes.DOUBLE, allowNull: true },

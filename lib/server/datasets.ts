@@ -2,6 +2,7 @@ import "server-only";
 import { Op, type WhereOptions } from "sequelize";
 import type { DatasetOut, ListDatasetsQuery, UpdateDatasetBody } from "@/lib/schemas/dataset";
 import type { Dataset } from "@/models";
+import { statColumnsOf } from "@/models/plane";
 import { audit } from "./audit";
 import { db } from "./db";
 import { conflict, HttpError, notFound } from "./errors";
@@ -187,15 +188,5 @@ export async function planeIndex(datasetId: number) {
 export async function channelStats(datasetId: number) {
   const { ChannelStat } = db();
   const rows = await ChannelStat.findAll({ where: { datasetId }, order: [["c", "ASC"]] });
-  return rows.map((s) => ({
-    c: s.c,
-    min: s.min,
-    max: s.max,
-    mean: s.mean,
-    sd: s.sd,
-    countAtCeiling: s.countAtCeiling,
-    countAtZero: s.countAtZero,
-    percentiles: s.percentiles,
-    histogram: s.histogram,
-  }));
+  return rows.map((s) => ({ c: s.c, ...statColumnsOf(s) }));
 }

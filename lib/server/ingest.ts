@@ -11,6 +11,7 @@ import { scanPlanes } from "@/lib/tiff/scan";
 import { DIMENSION_ORDERS, OmeXmlError, parseOmeXml, planeIndex, type DimensionOrder, type OmeImage } from "@/lib/tiff/ome";
 import { compressionName, readTiffStructure, TiffFormatError, type IfdInfo } from "@/lib/tiff/structure";
 import type { ChannelInfo, Dataset } from "@/models";
+import { statColumnsOf } from "@/models/plane";
 import { blobByteSource } from "./blob-source";
 import { db } from "./db";
 import { blobStore } from "./storage";
@@ -207,27 +208,17 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
   const thumbnailKey = `derived/${dataset.id}/thumbnail-${Date.now()}.png`;
   await store.put(thumbnailKey, thumbnail, { contentType: "image/png" });
 
-  const statColumns = (s: PlaneSummary) => ({
-    min: s.min,
-    max: s.max,
-    mean: s.mean,
-    sd: s.sd,
-    countAtCeiling: s.countAtCeiling,
-    countAtZero: s.countAtZero,
-    percentiles: s.percentiles,
-    histogram: s.histogram,
-  });
 
   await sequelize.transaction(async (transaction) => {
     await Plane.destroy({ where: { datasetId }, transaction });
     await ChannelStat.destroy({ where: { datasetId }, transaction });
     for (let i = 0; i < pending.length; i += 500) {
       await Plane.bulkCreate(
-        pending.slice(i, i + 500).map((p) => ({ datasetId, ifdIndex: p.ifd.index, ifdOffset: p.ifd.offset, c: p.c, z: p.z, t: p.t, ...statColumns(pick(p)) })),
+        pending.slice(i, i + 500).map((p) => ({ datasetId, ifdIndex: p.ifd.index, ifdOffset: p.ifd.offset, c: p.c, z: p.z, t: p.t, ...statColumnsOf(pick(p)) })),
         { transaction },
       );
     }
-    await ChannelStat.bulkCreate([...channelSummaries].map(([c, s]) => ({ datasetId, c, ...statColumns(s) })), { transaction });
+    await ChannelStat.bulkCreate([...channelSummaries].map(([c, s]) => ({ datasetId, c, ...statColumnsOf(s) })), { transaction });
     await dataset.update(
       {
         status: "ready",
