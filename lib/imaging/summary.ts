@@ -27,7 +27,14 @@ export function compactHistogram(hist: Histogram, ceiling: number, bins = 256): 
   const binWidth = Math.max(1, Math.ceil((ceiling + 1) / bins));
   const counts = new Array<number>(Math.ceil((ceiling + 1) / binWidth)).fill(0);
   const last = Math.min(hist.length - 1, ceiling);
-  for (let v = 0; v <= last; v++) if (hist[v]) counts[Math.floor(v / binWidth)] += hist[v];
+  // Bin by bin rather than a division per value: the ingest calls this for every plane and every
+  // candidate ceiling. Sums run over v in the same ascending order, so they are the same numbers.
+  for (let bin = 0, v = 0; v <= last; bin++) {
+    const end = Math.min(last, v + binWidth - 1);
+    let sum = 0;
+    for (; v <= end; v++) sum += hist[v];
+    counts[bin] = sum;
+  }
   return { binWidth, counts };
 }
 

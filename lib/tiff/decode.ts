@@ -68,7 +68,6 @@ export async function decodeIfd(
   const bits = ifd.bitsPerSample[0];
   const float = ifd.sampleFormat[0] === 3;
   const bytesPerValue = bits / 8;
-  const data = float ? new Float32Array(width * height) : bits === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
 
   const blockWidth = layout.kind === "tiles" ? layout.tileWidth : width;
   const blockRows = layout.kind === "tiles" ? layout.tileLength : layout.rowsPerStrip;
@@ -78,7 +77,6 @@ export async function decodeIfd(
   // Uncompressed strips in the machine's byte order are already the plane's bytes: copy them
   // straight into place (one memcpy per strip) instead of converting value by value.
   const direct = ifd.compression === 1 && ifd.predictor !== 2 && layout.kind === "strips" && (bits === 8 || header.littleEndian === HOST_LITTLE_ENDIAN);
-  const dataBytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
 
   const blocks = layout.offsets.map((offset, i) => ({ i, offset, length: layout.byteCounts[i] }));
   const groups = mergeReads(blocks);
@@ -92,6 +90,11 @@ export async function decodeIfd(
     const view = float ? new Float32Array(buf, 0, width * height) : bits === 16 ? new Uint16Array(buf, 0, width * height) : new Uint8Array(buf, 0, width * height);
     return { width, height, data: view };
   }
+
+  // Allocated only when the plane is put together from blocks: the zero-copy path above needs none,
+  // and a zero-filled 8 MB array per plane thrown away cost a lot of garbage collection.
+  const data = float ? new Float32Array(width * height) : bits === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
+  const dataBytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
 
   for (const { start, length, members } of groups) {
     const buf = length > 0 ? await source.read(start, length, signal) : new ArrayBuffer(0);

@@ -159,7 +159,7 @@ export async function pixelBenches(): Promise<Row[]> {
     met: mapMs < d3Ms,
   });
 
-  // 5. Three-channel additive composite: packed saturating add vs per-pixel if/else clamping.
+  // 5. Three-channel additive composite: spread-field add with a branch-free clamp (composite.ts) vs per-pixel if/else clamping.
   const tables = CHANNEL_COLOUR_SETS[3].map((c) => singleHueTable(c));
   const channels = planes.map((pixels, c) => ({ pixels, rgbaLut: buildRgbaLut(buildLut({ black: 120, white: 1500 + 500 * c }, 65535), tables[c]) }));
   const addMs = time(() => compositeAdd(channels, out));
@@ -186,7 +186,7 @@ export async function pixelBenches(): Promise<Row[]> {
     }
   });
   rows.push({
-    bench: "additive composite, 3 × 2048² channels: compositeAdd (packed saturating add)",
+    bench: "additive composite, 3 × 2048² channels: compositeAdd (branch-free clamp)",
     baseline: `per-pixel if/else clamping ${f(ifElseMs)}`,
     measured: `compositeAdd ${f(addMs)}; Uint8ClampedArray lanes ${f(lanesMs)}; compositeMax ${f(maxMs)}`,
     ratio: addMs / ifElseMs,

@@ -1,7 +1,8 @@
 import { describe, expect, test } from "vitest";
-import { singleHueTable } from "@/lib/imaging/colour-tables";
+import { clipMarkRgbaLut } from "@/lib/imaging/clip-marks";
+import { findTable, greyTable, singleHueTable } from "@/lib/imaging/colour-tables";
 import { addSaturate, compositeAdd, compositeAddClampedLanes, compositeMax, maxLanes } from "@/lib/imaging/composite";
-import { buildLut, buildRgbaLut, unpackRgba } from "@/lib/imaging/lut";
+import { buildLut, buildRgbaLut, packRgba, unpackRgba, type LevelMapping } from "@/lib/imaging/lut";
 import { rng } from "../helpers/rng";
 
 const bytes = (w: number) => [w & 255, (w >>> 8) & 255, (w >>> 16) & 255, w >>> 24];
@@ -76,5 +77,124 @@ describe("compositeMax", () => {
       for (const c of chans) bytes(c.rgbaLut[c.pixels[i]]).slice(0, 3).forEach((x, k) => (max[k] = Math.max(max[k], x)));
       expect(unpackRgba(out[i])).toEqual([...max, 255]);
     }
+  });
+});
+
+// compositeAdd takes a spread-field path for 2–4 channels of 16-bit pixels on whole words and the
+// packed path otherwise. Both must give, word for word, what a plain per-pixel reference gives: each
+// of R, G, B, A the sum over channels, 255 where the sum passes 255.
+describe("compositeAdd fast path against a per-pixel reference", () => {
+  const referenceAdd = (chans: { pixels: Uint16Array | Uint8Array; rgbaLut: Uint32Array }[], n: number) => {
+    const out = new Uint32Array(n);
+    for (let i = 0; i < n; i++) {
+      const sum = [0, 0, 0, 0];
+      for (const c of chans) unpackRgba(c.rgbaLut[c.pixels[i]]).forEach((x, k) => (sum[k] += x));
+      const [r, g, b, a] = sum.map((s) => (s > 255 ? 255 : s));
+      out[i] = packRgba(r, g, b, a);
+    }
+    return out;
+  };
+  const firstDifference = (a: Uint32Array, b: Uint32Array) => a.findIndex((x, i) => x !== b[i]);
+  const next = rng(99);
+  const randomPlane = (n: number, max: number) => Uint16Array.from({ length: n }, () => Math.floor(next() * (max + 1)));
+  // Level mappings over the edge cases: a one-count window, gamma on both sides of 1, the full range.
+  const mappings: LevelMapping[] = [
+    { black: 100, white: 3000 },
+    { black: 2047, white: 2048 },
+    { black: 0, white: 65535 },
+    { black: 150, white: 3500, gamma: 0.45 },
+    { black: 10, white: 900, gamma: 2.2 },
+    { black: 4094, white: 4095 },
+  ];
+  const tables = [singleHueTable("#FF00FF"), singleHueTable("#00FF00"), findTable("viridis")!, greyTable(), singleHueTable("#E69F00")];
+  const lutFor = (m: number, t: number) => buildRgbaLut(buildLut(mappings[m % mappings.length], 65535), tables[t % tables.length]);
+
+  test.each([1, 2, 3, 4, 5])("%i channels of random 16-bit and 12-bit planes, at odd and even lengths", (count) => {
+    for (const n of [1, 2, 3, 4, 5, 1001, 4096]) {
+      for (const max of [65535, 4095]) {
+        for (let trial = 0; trial < 3; trial++) {
+          const chans = Array.from({ length: count }, (_, c) => ({ pixels: randomPlane(n, max), rgbaLut: lutFor(c + trial, c + 2 * trial) }));
+          expect(firstDifference(compositeAdd(chans, new Uint32Array(n)), referenceAdd(chans, n))).toBe(-1);
+        }
+      }
+    }
+  });
+
+  test("all pixels at zero, all at the ceiling, and every channel saturating every component", () => {
+    const n = 1001;
+    for (const count of [2, 3, 4]) {
+      for (const fill of [0, 4095, 65535]) {
+        const chans = Array.from({ length: count }, (_, c) => ({ pixels: new Uint16Array(n).fill(fill), rgbaLut: lutFor(c, c) }));
+        expect(firstDifference(compositeAdd(chans, new Uint32Array(n)), referenceAdd(chans, n))).toBe(-1);
+      }
+      const white = buildRgbaLut(buildLut({ black: 0, white: 1 }, 65535), greyTable());
+      const chans = Array.from({ length: count }, () => ({ pixels: randomPlane(n, 65535), rgbaLut: white }));
+      const out = compositeAdd(chans, new Uint32Array(n));
+      expect(firstDifference(out, referenceAdd(chans, n))).toBe(-1);
+    }
+  });
+
+  test("every pair of component values clamps exactly, with a third and fourth channel on top", () => {
+    // Channel c maps value v to v in one component, so pixel values pick the summands directly.
+    const n = 256 * 256;
+    for (const count of [2, 3, 4]) {
+      for (const lane of [0, 1, 2]) {
+        const chans = Array.from({ length: count }, (_, c) => {
+          const rgbaLut = new Uint32Array(65536);
+          for (let v = 0; v < 65536; v++) {
+            const x = v & 255;
+            const rgb = [0, 0, 0];
+            rgb[lane] = x;
+            // Other components get a different value so a carry between fields would show.
+            rgb[(lane + 1) % 3] = 255 - x;
+            rgbaLut[v] = packRgba(rgb[0], rgb[1], rgb[2], 255);
+          }
+          return { pixels: Uint16Array.from({ length: n }, (_, i) => (c === 0 ? i & 255 : c === 1 ? i >> 8 : (i * 31 + c) & 255)), rgbaLut };
+        });
+        expect(firstDifference(compositeAdd(chans, new Uint32Array(n)), referenceAdd(chans, n))).toBe(-1);
+      }
+    }
+  });
+
+  test("clipping-mark tables, translucent tables, 8-bit planes and views off a 4-byte boundary", () => {
+    const n = 1001;
+    const marked = clipMarkRgbaLut(lutFor(0, 2), { highFrom: 4095, lowTo: 100 }, "#FF0000", "#0000FF");
+    const translucent = lutFor(1, 1).map((x) => (x & 0x00ffffff) | (((x & 0xff) >> 1) << 24));
+    const cases: { pixels: Uint16Array | Uint8Array; rgbaLut: Uint32Array }[][] = [
+      [
+        { pixels: randomPlane(n, 4095), rgbaLut: marked },
+        { pixels: randomPlane(n, 4095), rgbaLut: lutFor(1, 1) },
+      ],
+      // Only translucent tables: the result's alpha is a real sum, so the packed path answers.
+      [
+        { pixels: randomPlane(n, 65535), rgbaLut: translucent },
+        { pixels: randomPlane(n, 65535), rgbaLut: translucent },
+      ],
+      // One opaque table makes every result opaque.
+      [
+        { pixels: randomPlane(n, 65535), rgbaLut: translucent },
+        { pixels: randomPlane(n, 65535), rgbaLut: lutFor(2, 2) },
+        { pixels: randomPlane(n, 65535), rgbaLut: translucent },
+      ],
+      [
+        { pixels: Uint8Array.from({ length: n }, () => Math.floor(next() * 256)), rgbaLut: lutFor(3, 3) },
+        { pixels: Uint8Array.from({ length: n }, () => Math.floor(next() * 256)), rgbaLut: lutFor(4, 4) },
+      ],
+      [
+        { pixels: randomPlane(n + 1, 65535).subarray(1), rgbaLut: lutFor(0, 0) },
+        { pixels: randomPlane(n + 1, 65535).subarray(1), rgbaLut: lutFor(1, 1) },
+        { pixels: randomPlane(n + 1, 65535).subarray(1), rgbaLut: lutFor(2, 2) },
+      ],
+    ];
+    for (const chans of cases) expect(firstDifference(compositeAdd(chans, new Uint32Array(n)), referenceAdd(chans, n))).toBe(-1);
+  });
+
+  test("writes into a view of a larger output buffer without touching the rest", () => {
+    const n = 1001;
+    const chans = [0, 1, 2].map((c) => ({ pixels: randomPlane(n, 4095), rgbaLut: lutFor(c, c) }));
+    const buffer = new Uint32Array(n + 8).fill(0x12345678);
+    compositeAdd(chans, buffer.subarray(4, 4 + n));
+    expect(firstDifference(buffer.subarray(4, 4 + n), referenceAdd(chans, n))).toBe(-1);
+    expect([...buffer.subarray(0, 4), ...buffer.subarray(4 + n)]).toEqual(new Array(8).fill(0x12345678));
   });
 });

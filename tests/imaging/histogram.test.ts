@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it, test } from "vitest";
 import { countAt, histogram16, mergeHistograms, statsFromHistogram } from "@/lib/imaging/histogram";
+import { rng } from "../helpers/rng";
 import { loadStackFixture, type StackFixture } from "./stack-fixture";
 
 describe("histogram16", () => {
@@ -75,5 +76,68 @@ describe("histogram16 on any view of 16-bit data", () => {
       for (const v of view) expected[v]++;
       expect(histogram16(view)).toEqual(expected);
     }
+  });
+});
+
+// The word-at-a-time counting loop (histogram16's fast path) against the obvious per-pixel count, on
+// random planes and edge cases; statsFromHistogram against statistics computed from the pixels.
+describe("histogram16 fast path against a per-pixel reference", () => {
+  const reference = (pixels: Uint16Array | Uint8Array, bins = 65536) => {
+    const counts = new Uint32Array(bins);
+    for (let i = 0; i < pixels.length; i++) counts[pixels[i]]++;
+    return counts;
+  };
+  // toEqual on 65,536 entries is slow; the first differing bin (−1: none) says the same and more.
+  const firstDifference = (a: Uint32Array, b: Uint32Array) => (a.length !== b.length ? -2 : a.findIndex((x, i) => x !== b[i]));
+  const next = rng(2024);
+  const planes: [string, Uint16Array][] = [
+    ["empty", new Uint16Array(0)],
+    ["one pixel", Uint16Array.of(65535)],
+    ["all zeros", new Uint16Array(4099)],
+    ["all at the 16-bit ceiling", new Uint16Array(4099).fill(65535)],
+    ["all at the 12-bit ceiling", new Uint16Array(4100).fill(4095)],
+    ["random 16-bit", Uint16Array.from({ length: 10_007 }, () => Math.floor(next() * 65536))],
+    ["random 12-bit", Uint16Array.from({ length: 10_008 }, () => Math.floor(next() * 4096))],
+    ["runs of equal values", Uint16Array.from({ length: 9_999 }, (_, i) => (i >> 5) % 3 === 0 ? 100 : Math.floor(next() * 8))],
+    ["alternating extremes", Uint16Array.from({ length: 1_001 }, (_, i) => (i & 1 ? 65535 : 0))],
+  ];
+
+  test.each(planes)("%s: same counts for the plane and for views at every 2-byte offset", (_, plane) => {
+    for (const start of [0, 1, 2, 3]) {
+      for (const trim of [0, 1]) {
+        const view = plane.subarray(Math.min(start, plane.length), Math.max(Math.min(start, plane.length), plane.length - trim));
+        expect(firstDifference(histogram16(view), reference(view))).toBe(-1);
+      }
+    }
+  });
+
+  test("8-bit planes and bin counts below the value range keep their own loops", () => {
+    const bytes = Uint8Array.from({ length: 3001 }, () => Math.floor(next() * 256));
+    expect(firstDifference(histogram16(bytes, 256), reference(bytes, 256))).toBe(-1);
+    expect(firstDifference(histogram16(bytes), reference(bytes))).toBe(-1);
+    const small = Uint16Array.from({ length: 3001 }, () => Math.floor(next() * 4096));
+    expect(firstDifference(histogram16(small, 4096), reference(small, 4096))).toBe(-1);
+  });
+
+  test.each(planes.filter(([, p]) => p.length > 0))("%s: statistics equal those computed pixel by pixel", (_, plane) => {
+    const s = statsFromHistogram(histogram16(plane), 4095);
+    let min = Infinity;
+    let max = -Infinity;
+    let sum = 0;
+    let zero = 0;
+    let ceiling = 0;
+    for (const v of plane) {
+      min = Math.min(min, v);
+      max = Math.max(max, v);
+      sum += v; // exact: at most 65,535 × 10⁴ < 2⁵³
+      if (v === 0) zero++;
+      if (v === 4095) ceiling++;
+    }
+    const mean = sum / plane.length;
+    let squares = 0;
+    for (const v of plane) squares += (v - mean) ** 2;
+    expect([s.count, s.min, s.max, s.countAtZero, s.countAtCeiling]).toEqual([plane.length, min, max, zero, ceiling]);
+    expect(s.mean).toBe(mean);
+    expect(s.sd).toBeCloseTo(Math.sqrt(squares / plane.length), 6);
   });
 });

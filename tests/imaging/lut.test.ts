@@ -2,6 +2,7 @@ import { describe, expect, test } from "vitest";
 import { greyTable, singleHueTable } from "@/lib/imaging/colour-tables";
 import { mapToLevels } from "@/lib/imaging/mapping";
 import { buildLut, buildRgbaLut, LITTLE_ENDIAN, mapChannel, mapToRgba, packRgba, unpackRgba } from "@/lib/imaging/lut";
+import { rng } from "../helpers/rng";
 
 /** Round half up of 255·(v − b)/(w − b) in integers only: an oracle that shares no float code with buildLut. */
 function integerLevel(v: number, b: number, w: number): number {
@@ -94,5 +95,22 @@ describe("mapToRgba and mapChannel", () => {
     const rgbaLut = buildRgbaLut(buildLut({ black: 0, white: 255 }, 255), greyTable());
     const out = mapChannel(Uint8Array.from([0, 255, 17]), rgbaLut, new Uint32Array(3));
     expect([...out].map(unpackRgba)).toEqual([[0, 0, 0, 255], [255, 255, 255, 255], [17, 17, 17, 255]]);
+  });
+
+  test("the word-at-a-time loop gives out[i] = rgbaLut[pixels[i]] at every length and 2-byte offset", () => {
+    // A table whose every entry differs, so a swapped or shifted pixel cannot go unnoticed.
+    const rgbaLut = Uint32Array.from({ length: 65536 }, (_, v) => (Math.imul(v, 2654435761) ^ 0x5a5a5a5a) >>> 0);
+    const next = rng(5);
+    for (const n of [0, 1, 2, 3, 4, 5, 6, 7, 1001, 4096]) {
+      const data = Uint16Array.from({ length: n + 3 }, () => Math.floor(next() * 65536));
+      for (const start of [0, 1, 2, 3]) {
+        const pixels = data.subarray(start, start + n);
+        const out = new Uint32Array(n + 2).fill(7);
+        mapChannel(pixels, rgbaLut, out.subarray(1, n + 1));
+        const bad = pixels.findIndex((v, i) => out[i + 1] !== rgbaLut[v]);
+        expect(bad).toBe(-1);
+        expect([out[0], out[n + 1]]).toEqual([7, 7]);
+      }
+    }
   });
 });
