@@ -2,12 +2,13 @@
 
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CreatePresetBody, PresetChannel, PresetOut } from "@/lib/schemas/preset";
+import type { ImportPresetsBody } from "@/lib/schemas/preset-file";
 import { api } from "./api";
 
 const key = (labId: number) => ["labs", labId, "presets"] as const;
 
-export function usePresets(labId: number) {
-  return useQuery({ queryKey: key(labId), queryFn: async () => (await api<{ presets: PresetOut[] }>(`/api/labs/${labId}/presets`)).presets });
+export function usePresets(labId: number, enabled = true) {
+  return useQuery({ enabled, queryKey: key(labId), queryFn: async () => (await api<{ presets: PresetOut[] }>(`/api/labs/${labId}/presets`)).presets });
 }
 
 function useInvalidating<T, R>(labId: number, run: (arg: T) => Promise<R>) {
@@ -22,6 +23,20 @@ export const useRenamePreset = (labId: number) =>
     (await api<{ preset: PresetOut }>(`/api/labs/${labId}/presets/${id}`, { method: "PATCH", body: { version, name } })).preset,
   );
 export const useDeletePreset = (labId: number) => useInvalidating(labId, (id: number) => api(`/api/labs/${labId}/presets/${id}`, { method: "DELETE" }));
+/** The preset as stored now (after a 409 on save, to show the other person's version). */
+export const fetchPreset = async (labId: number, id: number) => (await api<{ preset: PresetOut }>(`/api/labs/${labId}/presets/${id}`)).preset;
+
+/** Download address of a presets file: every preset the person can see, or only `ids`. */
+export const presetsExportUrl = (labId: number, ids?: readonly number[]) =>
+  `/api/labs/${labId}/presets/export${ids && ids.length ? `?ids=${ids.join(",")}` : ""}`;
+
+export interface ImportOutcome {
+  imported: PresetOut[];
+  renamed: { from: string; to: string }[];
+}
+export const useImportPresets = (labId: number) =>
+  useInvalidating(labId, (body: ImportPresetsBody) => api<ImportOutcome>(`/api/labs/${labId}/presets/import`, { body }));
+
 export const useDuplicatePreset = (labId: number) =>
   useInvalidating(labId, async (id: number) => (await api<{ preset: PresetOut }>(`/api/labs/${labId}/presets/${id}/duplicate`, { method: "POST", body: {} })).preset);
 

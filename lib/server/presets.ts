@@ -14,7 +14,7 @@ import type { Dataset, Preset } from "@/models";
 import { db } from "./db";
 import { conflict, forbidden, HttpError, notFound } from "./errors";
 
-interface Caller {
+export interface Caller {
   userId: number;
   role: Role;
 }
@@ -49,7 +49,7 @@ export function presetOut(preset: Preset): PresetOut {
 }
 
 /** The scope within which a name must be unique (see migrations/0004): the whole lab, or one person. */
-const nameScopeKey = (scope: "private" | "lab", ownerId: number) => (scope === "lab" ? 0 : ownerId);
+export const nameScopeKey = (scope: "private" | "lab", ownerId: number) => (scope === "lab" ? 0 : ownerId);
 
 const nameTaken = () => conflict("A preset with that name already exists here.", { name: "That name is already taken." });
 
@@ -64,12 +64,12 @@ async function uniqueName<T>(work: () => Promise<T>): Promise<T> {
 }
 
 /** Lab presets, and the caller's own private ones; someone else's private preset is never visible. */
-const visibleTo = (labId: number, userId: number) => ({
+export const visibleTo = (labId: number, userId: number) => ({
   labId,
   [Op.or]: [{ scope: "lab" }, { scope: "private", ownerId: userId }],
 });
 
-function assertMayChange(caller: Caller, scope: "private" | "lab"): void {
+export function assertMayChange(caller: Caller, scope: "private" | "lab"): void {
   if (scope === "lab" && !can(caller.role, "presets.edit")) throw forbidden("Only editors and owners change lab presets.");
 }
 
@@ -191,7 +191,7 @@ export async function getViewState(userId: number, datasetId: number): Promise<V
 }
 
 /** The plane position and channels must exist in this dataset; otherwise 400 with the field named. */
-function checkAgainstDataset(dataset: Dataset, body: ViewStateBody): void {
+export function checkAgainstDataset(dataset: Dataset, body: ViewStateBody): void {
   const fields: Record<string, string> = {};
   const sizeZ = dataset.sizeZ ?? 1;
   const sizeT = dataset.sizeT ?? 1;
