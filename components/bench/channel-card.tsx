@@ -32,14 +32,18 @@ interface Props {
   onFit: () => void;
   fitBusy: boolean;
   offset?: number | null;
+  /** The lab's own colour tables ("custom-<id>", Colour tables page), offered after the built-in ones. */
+  extraTables?: readonly { id: string; name: string }[];
 }
 
 const pct = (n: number, total: number) => (total ? `${((100 * n) / total).toFixed(3)} %` : "—");
 const num = (v: number | undefined, digits = 0) => (v === undefined || Number.isNaN(v) ? "—" : v.toFixed(digits));
 
 /** One channel's card on the bench: visibility, colour, histogram with handles, typed black/white points, Fit. */
-export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, onChange, onSolo, onFit, fitBusy, offset }: Props) {
+export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, onChange, onSolo, onFit, fitBusy, offset, extraTables }: Props) {
   const id = `ch-${channel.c}`;
+  // A table the list does not hold (deleted, or not loaded yet) stays selected and says so.
+  const unknownTable = channel.tableId && !tableChoices.some((t) => t.id === channel.tableId) && !extraTables?.some((t) => t.id === channel.tableId);
   return (
     <section aria-label={`Channel ${channel.name}`} className="rounded border border-graphite-700 bg-graphite-900 p-3">
       <div className="flex items-center gap-2">
@@ -134,6 +138,16 @@ export function ChannelCard({ channel, stats, ceiling, pixelCount, log, range, o
                 {t.name}
               </option>
             ))}
+            {extraTables && extraTables.length > 0 && (
+              <optgroup label="Lab colour tables">
+                {extraTables.map((t) => (
+                  <option key={t.id} value={t.id}>
+                    {t.name}
+                  </option>
+                ))}
+              </optgroup>
+            )}
+            {unknownTable && <option value={channel.tableId!}>Table not available ({channel.tableId})</option>}
           </select>
         </label>
         <label className="flex flex-col text-[11px] text-graphite-200">

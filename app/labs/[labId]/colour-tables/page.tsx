@@ -1,12 +1,10 @@
-import { EmptyState, PageHeader } from "@/components/ui/states";
+import { ColourTablesPage } from "@/components/colour-tables/colour-tables-page";
+import { labPage } from "@/lib/server/pages";
 
 export const metadata = { title: "Colour tables" };
 
-export default function Page() {
-  return (
-    <>
-      <PageHeader title="Colour tables" description="Colour ramps for mapping counts to display, including colour-blind-safe ones." />
-      <EmptyState title="No custom colour tables yet">The colour-table editor is not part of this version of Fluxframe yet.</EmptyState>
-    </>
-  );
+export default async function Page({ params }: { params: Promise<{ labId: string }> }) {
+  const { labId } = await params;
+  const { lab, role } = await labPage(labId, "presets.read");
+  return <ColourTablesPage labId={lab.id} role={role} />;
 }
