@@ -6,6 +6,8 @@ import { useMemo, useState } from "react";
 import { Button } from "@/components/ui/button";
 import { DataTable } from "@/components/ui/data-table";
 import { EmptyState, ErrorState, Loading, PageHeader } from "@/components/ui/states";
+import { VerdictBadge } from "@/components/checks/verdict-badge";
+import { useLabChecks } from "@/lib/client/checks";
 import { formatBytes, useDatasets } from "@/lib/client/datasets";
 import { can, type Role } from "@/lib/permissions";
 import type { DatasetOut } from "@/lib/schemas/dataset";
@@ -50,6 +52,9 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
     return q;
   }, [search, status, experiment, tag, bin, page, sorting]);
   const list = useDatasets(labId, query);
+  // Verdicts of the acquisition check, computed by the server from the stored statistics.
+  const checks = useLabChecks(labId);
+  const verdicts = useMemo(() => new Map(checks.data?.datasets.map((d) => [d.datasetId, d.verdict]) ?? []), [checks.data]);
 
   const columns = useMemo<ColumnDef<DatasetOut, unknown>[]>(
     () => [
@@ -83,10 +88,25 @@ export function LibraryPage({ labId, role }: { labId: number; role: Role }) {
       { id: "bits", header: "Bits", enableSorting: false, cell: ({ row }) => <span className="num block whitespace-nowrap text-right">{row.original.ceiling ? `${Math.log2(row.original.ceiling + 1)} in ${row.original.bitsPerSample}` : (row.original.bitsPerSample ?? "—")}</span> },
       { accessorKey: "sizeBytes", header: "Size", cell: ({ row }) => <span className="num block whitespace-nowrap text-right">{formatBytes(row.original.sizeBytes)}</span> },
       { accessorKey: "status", header: "Status", cell: ({ row }) => <StatusCell d={row.original} /> },
+      {
+        id: "check",
+        header: "Check",
+        enableSorting: false,
+        cell: ({ row }) => {
+          const verdict = verdicts.get(row.original.id);
+          return verdict ? (
+            <Link href={`/labs/${labId}/datasets/${row.original.id}/check`} aria-label={`Acquisition check of ${row.original.title}: ${verdict}`}>
+              <VerdictBadge verdict={verdict} />
+            </Link>
+          ) : (
+            "—"
+          );
+        },
+      },
       { id: "uploadedBy", header: "Uploaded by", enableSorting: false, cell: ({ row }) => row.original.uploadedBy ?? "—" },
       { accessorKey: "createdAt", header: "Date", cell: ({ row }) => <span className="num whitespace-nowrap">{row.original.createdAt.slice(0, 10)}</span> },
     ],
-    [labId],
+    [labId, verdicts],
   );
 
   const pages = list.data ? Math.max(1, Math.ceil(list.data.total / list.data.pageSize)) : 1;

@@ -1,7 +1,7 @@
 import "server-only";
 import { inflateSync } from "node:zlib";
 import { PNG } from "pngjs";
-import { ceilingFor } from "@/lib/imaging/ceiling";
+import { ceilingFor, isLeftJustified } from "@/lib/imaging/ceiling";
 import { histogram16, mergeHistograms, statsFromHistogram, type Histogram } from "@/lib/imaging/histogram";
 import { compositeAdditive, downscaleRgba } from "@/lib/imaging/mapping";
 import { defaultChannelColour, hexToRgb } from "@/lib/imaging/palettes";
@@ -256,6 +256,9 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
           omeImageName: ome?.name ?? null,
           stackMax,
           stackMin: statsFromHistogram(mergeHistograms(channelHists)).min,
+          // Per channel: the smallest b for which every value is a multiple of 2^(16 − b), i.e.
+          // b-bit data shifted to the top of a 16-bit container (read by the acquisition check).
+          leftJustifiedBits: channelHists.map((h) => (bits === 16 ? ([8, 10, 12, 14].find((b) => isLeftJustified(h as unknown as Histogram, b)) ?? null) : null)),
         },
       },
       { transaction },

@@ -1,12 +1,11 @@
-import { EmptyState, PageHeader } from "@/components/ui/states";
+import { ChecksPage } from "@/components/checks/checks-page";
+import { can } from "@/lib/permissions";
+import { labPage } from "@/lib/server/pages";
 
 export const metadata = { title: "Checks" };
 
-export default function Page() {
-  return (
-    <>
-      <PageHeader title="Checks" description="Every dataset's acquisition check: saturation, offset, range use and sampling." />
-      <EmptyState title="No checks yet">Checks run on uploaded datasets, which this version of Fluxframe cannot take yet.</EmptyState>
-    </>
-  );
+export default async function Page({ params }: { params: Promise<{ labId: string }> }) {
+  const { labId } = await params;
+  const { lab, role } = await labPage(labId, "datasets.read");
+  return <ChecksPage labId={lab.id} mayConfigure={can(role, "checks.configure")} />;
 }
