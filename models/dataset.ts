@@ -1,4 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import type { DetectorProfile } from "./detector-profile";
 import type { User } from "./user";
 
 export type DatasetStatus = "queued" | "ingesting" | "ready" | "failed";
@@ -56,10 +57,13 @@ export class Dataset extends Model<InferAttributes<Dataset>, InferCreationAttrib
   declare treatment: CreationOptional<string | null>;
   declare notes: CreationOptional<string | null>;
   declare tags: CreationOptional<string[] | null>;
+  /** The camera the dataset was taken with (Detectors page); null = none named. */
+  declare detectorProfileId: CreationOptional<number | null>;
   declare deletedAt: CreationOptional<Date | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare uploadedBy?: NonAttribute<User>;
+  declare detectorProfile?: NonAttribute<DetectorProfile | null>;
 
   static initModel(sequelize: Sequelize) {
     const int = (allowNull = true) => ({ type: DataTypes.INTEGER.UNSIGNED, allowNull });
@@ -112,6 +116,7 @@ export class Dataset extends Model<InferAttributes<Dataset>, InferCreationAttrib
         treatment: { type: DataTypes.STRING(200), allowNull: true },
         notes: { type: DataTypes.TEXT, allowNull: true },
         tags: { type: DataTypes.JSON, allowNull: true },
+        detectorProfileId: int(),
         deletedAt: { type: DataTypes.DATE, allowNull: true },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,

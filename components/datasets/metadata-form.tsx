@@ -1,11 +1,12 @@
 "use client";
 
-import { useFieldArray, useForm } from "react-hook-form";
+import { useFieldArray, useForm, useWatch } from "react-hook-form";
 import { useState } from "react";
 import { Button } from "@/components/ui/button";
 import { FormError, TextField } from "@/components/ui/field";
 import { ApiError } from "@/lib/client/api";
 import { useUpdateDataset } from "@/lib/client/datasets";
+import { useDetectorProfiles } from "@/lib/client/detector-profiles";
 import { updateDatasetBody, type DatasetOut } from "@/lib/schemas/dataset";
 import { DIMENSION_ORDERS } from "@/lib/tiff/ome";
 
@@ -27,6 +28,8 @@ interface Values {
   sizeT: string;
   order: string;
   channels: { name: string; colour: string; emissionNm: string }[];
+  /** A profile id, or "" for none. */
+  detectorProfileId: string;
 }
 
 const text = (v: string | null | undefined) => v ?? "";
@@ -56,8 +59,12 @@ export function MetadataForm({ dataset }: { dataset: DatasetOut }) {
       sizeT: num(dataset.sizeT),
       order: dataset.dimensionOrder ?? "XYCZT",
       channels: (dataset.channels ?? []).map((c) => ({ name: c.name, colour: c.colour, emissionNm: num(c.emissionNm) })),
+      detectorProfileId: num(dataset.detectorProfileId),
     },
   });
+  const profiles = useDetectorProfiles(dataset.labId);
+  // Controlled, so the choice survives the options arriving after the first render.
+  const detectorValue = useWatch({ control: form.control, name: "detectorProfileId" });
   const channels = useFieldArray({ control: form.control, name: "channels" });
   const errors = form.formState.errors;
   // A file without OME-XML (or one that failed before its dimensions were settled) can be re-described.
@@ -76,6 +83,7 @@ export function MetadataForm({ dataset }: { dataset: DatasetOut }) {
       physicalSizeY: toNumber(v.physicalSizeY),
       physicalSizeZ: toNumber(v.physicalSizeZ),
       timeIncrement: toNumber(v.timeIncrement),
+      detectorProfileId: toNumber(v.detectorProfileId),
       ...(v.channels.length ? { channels: v.channels.map((c) => ({ name: c.name, colour: c.colour, emissionNm: toNumber(c.emissionNm) })) } : {}),
       ...(editableDims ? { dimensions: { sizeC: Number(v.sizeC), sizeZ: Number(v.sizeZ), sizeT: Number(v.sizeT), order: v.order } } : {}),
     };
@@ -112,6 +120,38 @@ export function MetadataForm({ dataset }: { dataset: DatasetOut }) {
         <TextField label="Pixel height (µm)" inputMode="decimal" error={errors.physicalSizeY?.message} {...form.register("physicalSizeY")} />
         <TextField label="Z step (µm)" inputMode="decimal" error={errors.physicalSizeZ?.message} {...form.register("physicalSizeZ")} />
         <TextField label="Interval (s)" inputMode="decimal" error={errors.timeIncrement?.message} {...form.register("timeIncrement")} />
+      </fieldset>
+      <fieldset className="space-y-2">
+        <legend className="mb-2 text-sm font-semibold">Detector</legend>
+        <label className="block max-w-md space-y-1 text-sm font-medium">
+          Detector profile
+          <select
+            className="block w-full rounded border border-paper-300 bg-white px-2 py-1.5 text-sm"
+            value={detectorValue}
+            onChange={(e) => form.setValue("detectorProfileId", e.target.value, { shouldDirty: true })}
+          >
+            <option value="">None (raw counts only)</option>
+            {/* The dataset's own profile stays listed while the list loads or if it fails. */}
+            {dataset.detector && !profiles.data?.some((p) => p.id === dataset.detector?.id) && <option value={dataset.detector.id}>{dataset.detector.name}</option>}
+            {(profiles.data ?? []).map((p) => (
+              <option key={p.id} value={p.id}>
+                {p.name} — K {Number(p.gainDnPerE.toPrecision(4))} DN/e⁻, offset {Number(p.offsetDn.toPrecision(5))} DN
+              </option>
+            ))}
+          </select>
+        </label>
+        <p className="text-xs text-paper-700">
+          {profiles.isError
+            ? `The lab's detector profiles could not be loaded: ${profiles.error.message}`
+            : profiles.data?.length === 0
+              ? "This lab has no detector profiles yet; add one on the Detectors page."
+              : "With a profile, the bench shows photoelectrons, (DN − offset) / K, next to the raw value."}
+        </p>
+        {errors.detectorProfileId?.message && (
+          <p role="alert" className="text-xs font-medium text-fault-700">
+            {errors.detectorProfileId.message}
+          </p>
+        )}
       </fieldset>
       {editableDims && (
         <fieldset className="grid gap-4 sm:grid-cols-4">

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { DIMENSION_ORDERS } from "@/lib/tiff/ome";
+import { DetectorSummary } from "./detector-profile";
 
 export const MiB = 1024 * 1024;
 export const DEFAULT_PART_SIZE = 8 * MiB;
@@ -68,6 +69,8 @@ export const updateDatasetBody = z.object({
   physicalSizeZ: micrometres,
   timeIncrement: z.number().positive().max(1e7).nullable().optional(),
   dimensions: dimensionsBody.pick({ sizeC: true, sizeZ: true, sizeT: true, order: true }).optional(),
+  // The lab's detector profile the dataset was taken with (Detectors page); null clears it.
+  detectorProfileId: z.number({ message: "Choose a detector profile." }).int().positive().nullable().optional(),
 });
 export type UpdateDatasetBody = z.infer<typeof updateDatasetBody>;
 
@@ -119,6 +122,9 @@ export const DatasetOut = z.object({
   treatment: z.string().nullable(),
   notes: z.string().nullable(),
   tags: z.array(z.string()),
+  detectorProfileId: z.number().nullable(),
+  /** The named profile's numbers, so the bench can show photoelectrons without another request. */
+  detector: DetectorSummary.nullable(),
   hasThumbnail: z.boolean(),
   uploadedBy: z.string().nullable(),
   deletedAt: z.string().nullable(),

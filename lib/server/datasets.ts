@@ -1,7 +1,8 @@
 import "server-only";
 import { Op, type WhereOptions } from "sequelize";
 import type { DatasetOut, ListDatasetsQuery, UpdateDatasetBody } from "@/lib/schemas/dataset";
-import type { Dataset } from "@/models";
+import type { DetectorSummary } from "@/lib/schemas/detector-profile";
+import type { Dataset, DetectorProfile } from "@/models";
 import { statColumnsOf } from "@/models/plane";
 import { audit } from "./audit";
 import { db } from "./db";
@@ -12,6 +13,28 @@ import { blobStore } from "./storage";
 
 /** Deleted datasets stay in the bin this long, restorable by editors, before the clean-up removes them. */
 export const BIN_DAYS = 7;
+
+/** A detector profile's numbers as a dataset carries them (the bench's photoelectron readout). */
+export function detectorSummary(p: DetectorProfile): DetectorSummary {
+  return {
+    id: p.id,
+    name: p.name,
+    bitDepth: p.bitDepth,
+    offsetDn: p.offsetDn,
+    gainDnPerE: p.gainDnPerE,
+    readNoiseE: p.readNoiseE ?? null,
+    saturationCapacityE: p.saturationCapacityE ?? null,
+  };
+}
+
+/** Rows loaded with a dataset: the uploader's name and the named detector profile. */
+const datasetIncludes = () => {
+  const { User, DetectorProfile } = db();
+  return [
+    { model: User, as: "uploadedBy" },
+    { model: DetectorProfile, as: "detectorProfile" },
+  ];
+};
 
 export function datasetOut(d: Dataset): DatasetOut {
   return {
@@ -47,6 +70,8 @@ export function datasetOut(d: Dataset): DatasetOut {
     treatment: d.treatment ?? null,
     notes: d.notes ?? null,
     tags: d.tags ?? [],
+    detectorProfileId: d.detectorProfileId ?? null,
+    detector: d.detectorProfile ? detectorSummary(d.detectorProfile) : null,
     hasThumbnail: Boolean(d.thumbnailKey),
     uploadedBy: d.uploadedBy?.name ?? null,
     deletedAt: d.deletedAt ? d.deletedAt.toISOString() : null,
@@ -56,7 +81,7 @@ export function datasetOut(d: Dataset): DatasetOut {
 }
 
 export async function listDatasets(labId: number, query: ListDatasetsQuery) {
-  const { Dataset, User, sequelize } = db();
+  const { Dataset, sequelize } = db();
   const where: WhereOptions = { labId, deletedAt: query.bin === "1" ? { [Op.ne]: null } : null };
   const and: WhereOptions[] = [];
   if (query.q) {
@@ -68,7 +93,7 @@ export async function listDatasets(labId: number, query: ListDatasetsQuery) {
   if (query.tag) and.push(sequelize.where(sequelize.fn("JSON_CONTAINS", sequelize.col("tags"), JSON.stringify(query.tag)), 1));
   const { rows, count } = await Dataset.findAndCountAll({
     where: { ...where, ...(and.length ? { [Op.and]: and } : {}) },
-    include: [{ model: User, as: "uploadedBy" }],
+    include: datasetIncludes(),
     order: [[query.sort, query.dir.toUpperCase()], ["id", "DESC"]],
     limit: query.pageSize,
     offset: (query.page - 1) * query.pageSize,
@@ -89,10 +114,10 @@ export async function listDatasets(labId: number, query: ListDatasetsQuery) {
 
 /** A dataset of this lab; deleted ones only when asked (the bin). */
 export async function findDataset(labId: number, id: number, options: { deleted?: boolean } = {}): Promise<Dataset> {
-  const { Dataset, User } = db();
+  const { Dataset } = db();
   const dataset = await Dataset.findOne({
     where: { id, labId, ...(options.deleted ? {} : { deletedAt: null }) },
-    include: [{ model: User, as: "uploadedBy" }],
+    include: datasetIncludes(),
   });
   if (!dataset) throw notFound("That dataset");
   return dataset;
@@ -109,6 +134,15 @@ export async function updateDataset(actor: Actor, dataset: Dataset, body: Update
       throw new HttpError(400, "invalid_input", `This dataset has ${dataset.sizeC} channels; ${body.channels.length} were given.`, { channels: "Wrong number of channels." });
     }
     changes.channels = body.channels;
+  }
+  let profile: DetectorProfile | null | undefined;
+  if (body.detectorProfileId !== undefined) {
+    // Only a profile of the dataset's own lab; another lab's id reads as unknown.
+    profile = body.detectorProfileId === null ? null : await db().DetectorProfile.findOne({ where: { id: body.detectorProfileId, labId: dataset.labId } });
+    if (profile === null && body.detectorProfileId !== null) {
+      throw new HttpError(400, "invalid_input", "That detector profile is not one of this lab's.", { detectorProfileId: "Choose one of the lab's detector profiles." });
+    }
+    changes.detectorProfileId = body.detectorProfileId;
   }
   let reingest = false;
   if (body.dimensions) {
@@ -130,6 +164,8 @@ export async function updateDataset(actor: Actor, dataset: Dataset, body: Update
     if (reingest) await enqueueIngest(dataset.id, transaction);
     await audit({ action: "dataset.edited", labId: dataset.labId, actorId: actor.id, target: String(dataset.id), ip, detail: { fields: Object.keys(changes) } }, transaction);
   });
+  // The loaded association still names the old profile.
+  if (profile !== undefined) dataset.detectorProfile = profile;
   return datasetOut(dataset);
 }
 

@@ -1,12 +1,10 @@
-import { EmptyState, PageHeader } from "@/components/ui/states";
+import { DetectorsPage } from "@/components/detectors/detectors-page";
+import { labPage } from "@/lib/server/pages";
 
 export const metadata = { title: "Detectors" };
 
-export default function Page() {
-  return (
-    <>
-      <PageHeader title="Detectors" description="The lab's camera profiles: gain, offset, read noise and saturation capacity." />
-      <EmptyState title="No detector profiles yet">Detector profiles are not part of this version of Fluxframe yet.</EmptyState>
-    </>
-  );
+export default async function Page({ params }: { params: Promise<{ labId: string }> }) {
+  const { labId } = await params;
+  const { lab, role } = await labPage(labId, "lab.read");
+  return <DetectorsPage labId={lab.id} role={role} />;
 }
