@@ -1,12 +1,11 @@
-import { EmptyState, PageHeader } from "@/components/ui/states";
+import { PlannerPage } from "@/components/planner/planner-page";
+import { labPage } from "@/lib/server/pages";
 
 export const metadata = { title: "Planner" };
 
-export default function Page() {
-  return (
-    <>
-      <PageHeader title="Planner" description="Estimate how much storage an acquisition will need before you start it." />
-      <EmptyState title="The planner is not available yet">The storage planner is not part of this version of Fluxframe yet.</EmptyState>
-    </>
-  );
+export default async function Page({ params }: { params: Promise<{ labId: string }> }) {
+  const { labId } = await params;
+  // The planner itself needs no lab data; the compression note reads the lab's datasets.
+  const { lab } = await labPage(labId, "datasets.read");
+  return <PlannerPage labId={lab.id} />;
 }
