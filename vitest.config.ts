@@ -28,6 +28,9 @@ export default defineConfig({
           globalSetup: ["tests/setup/global-setup.ts"],
           testTimeout: 60_000,
           hookTimeout: 120_000,
+          // A browser on a loaded 2-core machine can take more than the default second to settle;
+          // polling longer changes no result, it only waits for it.
+          expect: { poll: { timeout: 10_000 } },
         },
       },
     ],

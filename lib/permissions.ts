@@ -18,11 +18,13 @@ export const actions = [
   "presets.read",
   "presets.edit",
   "share.create",
+  "detectors.edit",
+  "checks.configure",
 ] as const;
 export type Action = (typeof actions)[number];
 
 const viewer: readonly Action[] = ["lab.read", "members.read", "datasets.read", "presets.read"];
-const editor: readonly Action[] = [...viewer, "datasets.upload", "datasets.edit", "presets.edit", "share.create"];
+const editor: readonly Action[] = [...viewer, "datasets.upload", "datasets.edit", "presets.edit", "share.create", "detectors.edit"];
 const owner: readonly Action[] = actions;
 
 export const grants: Record<Role, readonly Action[]> = { viewer, editor, owner };

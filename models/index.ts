@@ -11,11 +11,17 @@ import { PasswordReset } from "./password-reset";
 import { Preset } from "./preset";
 import { User } from "./user";
 import { ViewState } from "./view-state";
+import { SavedView } from "./saved-view";
+import { ViewLink } from "./view-link";
+import { ColourTable } from "./colour-table";
+import { DetectorProfile } from "./detector-profile";
+import { Region } from "./region";
 
 export type { ChannelInfo, DatasetStatus } from "./dataset";
-export { AuditEvent, ChannelStat, Dataset, Invitation, Job, Lab, Membership, PasswordReset, Plane, Preset, Upload, UploadPart, User, ViewState };
+export type { LinkAccess } from "./view-link";
+export { AuditEvent, ChannelStat, Dataset, Invitation, Job, Lab, Membership, PasswordReset, Plane, Preset, Upload, UploadPart, User, ViewState, SavedView, ViewLink, ColourTable, DetectorProfile, Region };
 
-export const models = { User, Lab, Membership, Invitation, PasswordReset, AuditEvent, Dataset, Plane, ChannelStat, Upload, UploadPart, Job, Preset, ViewState };
+export const models = { User, Lab, Membership, Invitation, PasswordReset, AuditEvent, Dataset, Plane, ChannelStat, Upload, UploadPart, Job, Preset, ViewState, SavedView, ViewLink, ColourTable, DetectorProfile, Region };
 export type Models = typeof models;
 
 /** Binds every model to one Sequelize instance and declares the associations. Call once per process. */
@@ -35,5 +41,13 @@ export function initModels(sequelize: Sequelize): Models {
   Preset.belongsTo(User, { as: "owner", foreignKey: "ownerId" });
   ViewState.belongsTo(User, { as: "user", foreignKey: "userId" });
   ViewState.belongsTo(Dataset, { as: "dataset", foreignKey: "datasetId" });
+  SavedView.belongsTo(User, { as: "owner", foreignKey: "ownerId" });
+  ViewLink.belongsTo(User, { as: "createdBy", foreignKey: "createdById" });
+  ViewLink.belongsTo(Dataset, { as: "dataset", foreignKey: "datasetId" });
+  ColourTable.belongsTo(Lab, { as: "lab", foreignKey: "labId" });
+  ColourTable.belongsTo(User, { as: "owner", foreignKey: "ownerId" });
+  DetectorProfile.belongsTo(User, { as: "createdBy", foreignKey: "createdById" });
+  Dataset.belongsTo(DetectorProfile, { as: "detectorProfile", foreignKey: "detectorProfileId" });
+  Region.belongsTo(User, { as: "createdBy", foreignKey: "createdById" });
   return models;
 }

@@ -9,7 +9,7 @@
 // cache under their own keys; the decoded raw planes are only read, and nothing is written back.
 import { statsFromHistogram, histogram16, type HistogramStats } from "../lib/imaging/histogram";
 import { bottomPercentTo, clipMarkRgbaLut, topPercentFrom, type ClipThresholds } from "../lib/imaging/clip-marks";
-import { findTable, parseHex, singleHueTable } from "../lib/imaging/colour-tables";
+import { findTable, parseHex, singleHueTable, TABLE_SIZE, type ColourTable } from "../lib/imaging/colour-tables";
 import { addSaturate, compositeAdd, compositeMax, maxLanes } from "../lib/imaging/composite";
 import { flatDarkCorrect, floatHistogram, floatPercentiles, mapFloatToRgba } from "../lib/imaging/correction";
 import { regionHistogram, type ImageRect } from "../lib/imaging/fit";
@@ -17,6 +17,7 @@ import { simulateCvd, type CvdKind } from "../lib/imaging/cvd";
 import { buildLut, buildRgbaLut, packRgba } from "../lib/imaging/lut";
 import { percentiles as percentilesFromHistogram } from "../lib/imaging/percentile";
 import { PlaneCache } from "../lib/imaging/plane-cache";
+import { lineProfile, regionMask, regionStats, statsInElectrons, traceInElectrons, tracePoint, type AreaShape, type DetectorScale, type RegionShape, type RegionStats } from "../lib/imaging/regions";
 import { compactHistogram, type CompactHistogram } from "../lib/imaging/summary";
 import type { ByteSource } from "../lib/tiff/byte-source";
 import { decodePlane } from "../lib/tiff/decode";
@@ -246,6 +247,10 @@ function cropFloat(values: Float32Array, width: number, rect: ImageRect): Float3
   return Float32Array.from(out);
 }
 
+function unitOf(corrected: boolean, electrons: boolean): RegionUnit {
+  return electrons ? (corrected ? "e⁻ (corrected)" : "e⁻") : corrected ? "DN (corrected)" : "DN";
+}
+
 export class BenchError extends Error {
   override name = "BenchError";
 }
@@ -270,6 +275,33 @@ function throwIfAborted(signal?: AbortSignal): void {
 
 function both(a: AbortSignal | undefined, b: AbortSignal): AbortSignal {
   return a ? AbortSignal.any([a, b]) : b;
+}
+
+/** A lab's own colour table (Colour tables page), known to the worker as "custom-<id>". */
+export interface CustomTableRef {
+  id: string;
+  name: string;
+  /** 256 entries × r, g, b (768 bytes). */
+  rgb: Uint8Array;
+}
+
+// Custom tables registered by the bench, per worker. Built-in ids cannot be shadowed: only
+// "custom-<number>" ids are accepted.
+const customTables = new Map<string, ColourTable>();
+
+/** Registers (or replaces) custom colour tables so renders can name them by id; returns how many are known. */
+export function registerCustomTables(tables: readonly CustomTableRef[]): number {
+  for (const t of tables) {
+    if (!/^custom-\d+$/.test(t.id)) throw new RangeError(`A custom colour table id looks like "custom-12", got "${t.id}"`);
+    if (t.rgb.length !== TABLE_SIZE * 3) throw new RangeError(`Colour table ${t.id} has ${t.rgb.length} bytes, expected ${TABLE_SIZE * 3}`);
+    customTables.set(t.id, { id: t.id, name: t.name, kind: "perceptual", rgb: Uint8Array.from(t.rgb) });
+  }
+  return customTables.size;
+}
+
+/** findTable, plus the registered custom tables. */
+export function lookupTable(id: string): ColourTable | undefined {
+  return customTables.get(id) ?? findTable(id);
 }
 
 export interface RenderLayer {
@@ -303,7 +335,7 @@ export function renderLayers(layers: readonly RenderLayer[], length: number, mod
   const channels = layers.map((l) => {
     const white = Math.max(l.white, l.black + 1);
     const lut = buildLut({ black: l.black, white, gamma: l.gamma }, Math.max(ceiling, Math.ceil(white)));
-    const table = (l.tableId && findTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
+    const table = (l.tableId && lookupTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
     let rgbaLut = buildRgbaLut(lut, table);
     if (options.clipMarks) rgbaLut = clipMarkRgbaLut(rgbaLut, l.marks ?? { highFrom: ceiling, lowTo: Math.floor(l.black) }, options.clipMarks.high, options.clipMarks.low);
     return { pixels: l.pixels, rgbaLut };
@@ -351,7 +383,7 @@ export function renderCorrectedLayers(
   layers.forEach((l, k) => {
     if (l.values.length < length || l.raw.length < length) throw new RangeError(`A corrected layer holds fewer than ${length} pixels`);
     const white = l.white > l.black ? l.white : l.black + 1;
-    const table = (l.tableId && findTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
+    const table = (l.tableId && lookupTable(l.tableId)) || singleHueTable([l.colour[0], l.colour[1], l.colour[2]]);
     // Invalid pixels are black here (they add nothing) and painted after the blend.
     mapFloatToRgba(l.values, { black: l.black, white, gamma: l.gamma }, table, mapped, [0, 0, 0]);
     if (options.clipMarks) {
@@ -434,8 +466,72 @@ export interface BenchApi {
    * correction off (null). On failure the previous correction stays as it was.
    */
   setCorrection(args: CorrectionArgs | null, signal?: AbortSignal): Promise<CorrectionInfo | null>;
+  /** Region statistics (areas) and line profiles (lines) on one plane, for every listed channel. */
+  regionStats(z: number, t: number, regions: readonly RegionRef[], signal?: AbortSignal, options?: RegionOptions): Promise<RegionResult[]>;
+  /** A region's mean and sum on every plane along t (at z = fixed) or z (at t = fixed); see TraceRequest. */
+  trace(request: TraceRequest, signal?: AbortSignal, onProgress?: (done: number, total: number) => void): Promise<TraceResult>;
   counters(): BenchCounters;
   close(): Promise<void>;
+}
+
+// ---- Regions (lib/imaging/regions.ts): statistics, line profiles and traces in the worker ----
+
+export interface RegionRef {
+  id: number | string;
+  shape: RegionShape;
+}
+
+export interface RegionOptions {
+  /** Channels to measure; default every channel of the dataset. */
+  channels?: readonly number[];
+  /** Corrected values when a flat/dark correction is set (the default then); false forces raw. */
+  corrected?: boolean;
+  /**
+   * Report photoelectrons, e = (DN − offset) / K. On corrected values the dark frame has already
+   * removed the offset, so e = corrected / K there.
+   */
+  detector?: DetectorScale | null;
+  /** µm per pixel, for areas in µm². */
+  pixelSizeUm?: { x: number | null; y: number | null } | null;
+}
+
+/** "DN" raw counts, "DN (corrected)" flat/dark corrected, "e⁻" photoelectrons (raw or corrected). */
+export type RegionUnit = "DN" | "DN (corrected)" | "e⁻" | "e⁻ (corrected)";
+
+export interface RegionChannelResult {
+  c: number;
+  /** Areas: statistics on this plane. */
+  stats?: RegionStats;
+  /** Lines: nearest-pixel values at unit steps (NaN outside the image), and how many samples are saturated. */
+  profile?: { distance: number[]; value: number[]; countAtCeiling: number };
+}
+
+export interface RegionResult {
+  id: number | string;
+  unit: RegionUnit;
+  channels: RegionChannelResult[];
+}
+
+export interface TraceRequest {
+  shape: AreaShape;
+  /** Background region: its mean per pixel on each plane is subtracted (regions.ts tracePoint). */
+  background?: AreaShape | null;
+  axis: "t" | "z";
+  /** The z of a trace over t, or the t of a trace over z. */
+  fixed: number;
+  /** How many planes along the axis (sizeT or sizeZ). */
+  length: number;
+  channels: readonly number[];
+  corrected?: boolean;
+  detector?: DetectorScale | null;
+}
+
+export interface TraceResult {
+  axis: "t" | "z";
+  unit: RegionUnit;
+  /** Pixels inside the region. */
+  areaPx: number;
+  points: { z: number; t: number; channels: { c: number; mean: number; sum: number; background: number | null; countAtCeiling: number }[] }[];
 }
 
 export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
@@ -730,6 +826,80 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       return { invalid: s.correction.invalid, scale: s.correction.scale, epsilon };
     },
 
+    async regionStats(z, t, regions, signal, options = {}) {
+      const s = current();
+      const sig = both(signal, s.controller.signal);
+      const { width, height, ceiling } = s.args;
+      const corr = correctionFor(s, options.corrected);
+      const unit = unitOf(Boolean(corr), Boolean(options.detector));
+      const refs = (options.channels ?? s.channels).map((c) => planeAt(s, c, z, t));
+      const raw = await Promise.all(refs.map((ref) => load(s, ref, sig)));
+      const values = corr ? (await Promise.all(refs.map((ref) => loadCorrected(s, corr, ref, sig)))).map((p) => p.data) : raw.map((p) => p.data);
+      throwIfAborted(sig);
+      const detector = options.detector ? (corr ? { offsetDn: 0, gainDnPerE: options.detector.gainDnPerE } : options.detector) : null;
+      return regions.map((region) => {
+        const shape = region.shape;
+        if (shape.kind === "line") {
+          return {
+            id: region.id,
+            unit,
+            channels: refs.map((ref, k) => {
+              const p = lineProfile(values[k], width, height, shape);
+              const saturated = lineProfile(raw[k].data, width, height, shape).value.filter((v) => v >= ceiling).length;
+              const value = detector ? p.value.map((v) => (v - detector.offsetDn) / detector.gainDnPerE) : p.value;
+              return { c: ref.c, profile: { distance: p.distance, value, countAtCeiling: saturated } };
+            }),
+          };
+        }
+        const mask = regionMask(shape, width, height);
+        return {
+          id: region.id,
+          unit,
+          channels: refs.map((ref, k) => {
+            const stats = regionStats(raw[k].data, mask, { ceiling, pixelSizeUm: options.pixelSizeUm, values: corr ? values[k] : undefined });
+            return { c: ref.c, stats: detector ? statsInElectrons(stats, detector) : stats };
+          }),
+        };
+      });
+    },
+
+    async trace(request, signal, onProgress) {
+      const s = current();
+      const sig = both(signal, s.controller.signal);
+      const { width, height, ceiling } = s.args;
+      const corr = correctionFor(s, request.corrected);
+      const mask = regionMask(request.shape, width, height);
+      const background = request.background ? regionMask(request.background, width, height) : null;
+      const detector = request.detector ? (corr ? { offsetDn: 0, gainDnPerE: request.detector.gainDnPerE } : request.detector) : null;
+      const points: TraceResult["points"] = [];
+      let reported = 0;
+      for (let i = 0; i < request.length; i++) {
+        throwIfAborted(sig);
+        const z = request.axis === "z" ? i : request.fixed;
+        const t = request.axis === "t" ? i : request.fixed;
+        const refs = request.channels.map((c) => planeAt(s, c, z, t));
+        const raw = await Promise.all(refs.map((ref) => load(s, ref, sig)));
+        const values = corr ? await Promise.all(refs.map((ref) => loadCorrected(s, corr, ref, sig))) : null;
+        points.push({
+          z,
+          t,
+          channels: refs.map((ref, k) => {
+            const p = tracePoint(raw[k].data, mask, background, { ceiling, values: values?.[k].data });
+            const count = values ? regionStats(raw[k].data, mask, { ceiling, values: values[k].data }).count : mask.length;
+            const q = detector ? traceInElectrons(p, count, detector) : p;
+            return { c: ref.c, mean: q.mean, sum: q.sum, background: q.background, countAtCeiling: q.countAtCeiling };
+          }),
+        });
+        // Progress at most every 50 ms (each call is a message to the main thread), and at the end.
+        const now = Date.now();
+        if (onProgress && (now - reported >= 50 || i === request.length - 1)) {
+          reported = now;
+          void Promise.resolve(onProgress(i + 1, request.length)).catch(() => undefined);
+        }
+      }
+      return { axis: request.axis, unit: unitOf(Boolean(corr), Boolean(detector)), areaPx: mask.length, points };
+    },
+
     counters() {
       return { decodes, cacheHits: cache.counters.hits, cachedPlanes: cache.size, cachedBytes: cache.bytes };
     },
@@ -750,6 +920,10 @@ export interface BenchWorkerApi {
   prefetch(z: number, ts: readonly number[], requestId?: number, channels?: readonly number[]): Promise<{ planes: number }>;
   percentiles(z: number, t: number, c: number, ps: readonly number[], requestId?: number, options?: PercentileOptions): Promise<number[]>;
   setCorrection(args: CorrectionArgs | null, requestId?: number): Promise<CorrectionInfo | null>;
+  regionStats(z: number, t: number, regions: RegionRef[], requestId?: number, options?: RegionOptions): Promise<RegionResult[]>;
+  /** `onProgress` arrives as a comlink proxy from the main thread. */
+  trace(request: TraceRequest, requestId?: number, onProgress?: (done: number, total: number) => void): Promise<TraceResult>;
+  registerTables(tables: CustomTableRef[]): number;
   cancel(requestId: number): void;
   counters(): BenchCounters;
   close(): Promise<void>;
@@ -776,6 +950,9 @@ export function cancellable(api: BenchApi): BenchWorkerApi {
     prefetch: (z, ts, id, channels) => withRequest(id, (s) => api.prefetch(z, ts, s, channels)),
     percentiles: (z, t, c, ps, id, options) => withRequest(id, (s) => api.percentiles(z, t, c, ps, s, options)),
     setCorrection: (args, id) => withRequest(id, (s) => api.setCorrection(args, s)),
+    regionStats: (z, t, regions, id, options) => withRequest(id, (s) => api.regionStats(z, t, regions, s, options)),
+    trace: (request, id, onProgress) => withRequest(id, (s) => api.trace(request, s, onProgress)),
+    registerTables: (tables) => registerCustomTables(tables),
     cancel(requestId) {
       running.get(requestId)?.abort(new DOMException("Superseded by a newer request", "AbortError"));
     },

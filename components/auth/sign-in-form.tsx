@@ -29,7 +29,13 @@ export function SignInForm({ returnTo, email }: { returnTo?: string; email?: str
       router.replace(safeReturnPath(returnTo));
       router.refresh();
     } else {
-      setFormError(result === "invalid" ? "Wrong e-mail address or password." : "Signing in failed; try again in a moment.");
+      setFormError(
+        result === "invalid"
+          ? "Wrong e-mail address or password."
+          : result === "limited"
+            ? "Too many sign-in attempts; signing in is paused for a few minutes. If this was not you, reset your password."
+            : "Signing in failed; try again in a moment.",
+      );
     }
   });
 

@@ -7,7 +7,9 @@ import { useSearchParams } from "next/navigation";
 import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { api, ApiError } from "@/lib/client/api";
 import { useDataset } from "@/lib/client/datasets";
+import type { LinkViewData } from "@/lib/client/links";
 import { useBenchWorker } from "@/lib/client/use-bench-worker";
+import { useBenchColourTables } from "@/lib/client/colour-tables";
 import { chooseMarkColours } from "@/lib/imaging/clip-marks";
 import { CVD_WARNING_THRESHOLD, minPairDistance } from "@/lib/imaging/colour-difference";
 import { findTable, safeChannelColours, singleHueTable, toHex } from "@/lib/imaging/colour-tables";
@@ -19,8 +21,14 @@ import { hexToRgb } from "@/lib/imaging/palettes";
 import type { BenchPlaneRef, BenchRender, RawValue } from "@/workers/bench-api";
 import { ChannelCard, type ChannelState } from "./channel-card";
 import { CorrectionPanel, type CorrectionChoice } from "./correction-panel";
+import { PhotoelectronReadout } from "@/components/detectors/photoelectron-readout";
+import { FigureDialog } from "./figure-dialog";
 import { HelpOverlay } from "./help-overlay";
-import { Viewport, type ViewportHandle } from "./viewport";
+import { SavedViewsMenu, SaveAsMineButton, ShareDialog } from "./share-dialog";
+import { Viewport, type Camera, type ViewportHandle } from "./viewport";
+// Regions (regions panel + overlay): not offered through view links.
+import { RegionOverlay, useRegionsController } from "./region-overlay";
+import { RegionsPanel } from "./regions-panel";
 
 // Default Fit percentiles (percent of pixels below the black / white point); editable on the bench.
 const FIT_LOW = 0.1;
@@ -35,12 +43,23 @@ function formatTime(seconds: number): string {
   return `${String(h).padStart(2, "0")}:${String(m).padStart(2, "0")}:${s.toFixed(s % 1 ? 1 : 0).padStart(2, "0")}`;
 }
 
-export function Bench({ labId, datasetId }: { labId: number; datasetId: number }) {
+/** A view link opened at /v/[token]: the bench is read-only, starts from the snapshot and saves nothing. */
+export interface BenchLink {
+  token: string;
+  data: LinkViewData;
+}
+
+export function Bench({ labId, datasetId, link }: { labId: number; datasetId: number; link?: BenchLink }) {
   const search = useSearchParams();
-  const datasetQuery = useDataset(datasetId);
+  const memberDataset = useDataset(datasetId, !link);
+  // Through a link the dataset comes with the snapshot (GET /api/v/[token]); nothing else is asked.
+  const datasetQuery = link
+    ? { data: { dataset: link.data.dataset, channelStats: link.data.channelStats, role: undefined }, isPending: false as const, isError: false as const, error: null }
+    : memberDataset;
+  const apiBase = link ? `/api/v/${link.token}` : `/api/datasets/${datasetId}`;
   const planesQuery = useQuery({
-    queryKey: ["datasets", datasetId, "planes"],
-    queryFn: async () => (await api<{ planes: (BenchPlaneRef & Record<string, unknown>)[] }>(`/api/datasets/${datasetId}/planes`)).planes,
+    queryKey: link ? ["links", link.token, "planes"] : ["datasets", datasetId, "planes"],
+    queryFn: async () => (await api<{ planes: (BenchPlaneRef & Record<string, unknown>)[] }>(`${apiBase}/planes`)).planes,
     enabled: datasetQuery.data?.dataset.status === "ready",
   });
   const bench = useBenchWorker();
@@ -75,10 +94,13 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   const [rate, setRate] = useState(5);
   const [loop, setLoop] = useState(true);
   const [opened, setOpened] = useState(false);
+  // The lab's own colour tables (Colour tables page): registered in the worker once open, offered in the channel cards.
+  const customTables = useBenchColourTables(labId, bench, opened, !link);
   const [rendered, setRendered] = useState<BenchRender | null>(null);
   const [error, setError] = useState<string | null>(null);
   const [readout, setReadout] = useState<{ x: number; y: number; values: RawValue[] } | null>(null);
   const [help, setHelp] = useState(false);
+  const [figure, setFigure] = useState(false);
   const [fitting, setFitting] = useState<number | null>(null);
   const [firstDrawMs, setFirstDrawMs] = useState<number | null>(null);
   // Set once on mount: the time from opening the bench to the first drawn plane is shown to the user.
@@ -88,10 +110,16 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
   }, []);
   const viewport = useRef<ViewportHandle>(null);
   const storageKey = `bench:${datasetId}`;
+  // Zoom and the image point at the centre, saved with the view and restored on return.
+  const [camera, setCamera] = useState<Camera | null>(null);
+  const [sharing, setSharing] = useState(false);
+  // Regions: members see them, editors draw them; a view link (guest, read-only) has none.
+  const regions = useRegionsController(datasetId, { enabled: !link && memberDataset.data?.dataset.status === "ready", canEdit: !link && can(memberDataset.data?.role, "datasets.edit") });
 
   // Each person's last view of this dataset is kept on the server (restored when they return);
   // unsaved edits also survive a reload through IndexedDB. Without either: Fit from the stack statistics.
   const savedView = useQuery({
+    enabled: !link,
     queryKey: ["datasets", datasetId, "view"],
     queryFn: async () => {
       try {
@@ -104,61 +132,91 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     staleTime: Infinity,
     retry: false,
   });
+  // ?view=<id> opens a named saved view (listed on the dataset page) instead of the person's last one.
+  const namedViewId = link ? null : Number(search.get("view")) || null;
+  const namedViews = useQuery({
+    enabled: namedViewId !== null,
+    queryKey: ["datasets", datasetId, "saved-views"],
+    queryFn: async () => (await api<{ views: { id: number; name: string; state: Omit<ViewStateOut, "datasetId" | "updatedAt"> }[] }>(`/api/datasets/${datasetId}/saved-views`)).views,
+  });
+  const [startedFrom, setStartedFrom] = useState<string | null>(null);
   useEffect(() => {
-    if (!datasetQuery.data || channels || savedView.isPending) return;
+    if (!datasetQuery.data || channels || (!link && savedView.isPending) || (namedViewId !== null && namedViews.isPending)) return;
     const { dataset: d, channelStats } = datasetQuery.data;
     const visibleFromUrl = search.get("ch")?.split(",").map(Number);
-    void idbGet<ChannelState[]>(storageKey)
+    const named = namedViewId !== null ? namedViews.data?.find((v) => v.id === namedViewId) : undefined;
+    // A link's snapshot, else a named view asked for, else the person's last view on the server.
+    const start = link ? link.data.link.state : named ? named.state : savedView.data;
+    void (link ? Promise.resolve(undefined) : idbGet<ChannelState[]>(storageKey))
       .catch(() => undefined)
       .then((saved) => {
+        if (named) setStartedFrom(`Opened the saved view "${named.name}".`);
+        else if (namedViewId !== null) setStartedFrom("That saved view no longer exists; showing your last view.");
         const defaults: ChannelState[] = (d.channels ?? []).map((ch, c) => {
           const s = channelStats.find((x) => x.c === c);
           const black = Math.round(s?.percentiles?.["0.1"] ?? 0);
           const white = Math.max(black + 1, Math.round(s?.percentiles?.["99.9"] ?? d.ceiling ?? 65535));
           return { c, name: ch.name, colour: ch.colour.toLowerCase(), visible: true, black, white, gamma: 1, tableId: null };
         });
-        const server = savedView.data;
+        const server = start;
         let base = defaults;
         if (server && server.channels.length === defaults.length) {
           base = defaults.map((ch) => {
             const v = server.channels.find((x) => x.c === ch.c);
             return v ? { ...ch, visible: v.visible, colour: v.colour.toLowerCase(), tableId: v.tableId, gamma: v.gamma, black: v.black, white: v.white } : ch;
           });
-          if (search.get("z") === null) setZ(Math.min(server.z, (d.sizeZ ?? 1) - 1));
-          if (search.get("t") === null) setT(Math.min(server.t, (d.sizeT ?? 1) - 1));
+          // A link or a named view is a snapshot: its plane wins over the address; the last view yields to it.
+          if (link || named || search.get("z") === null) setZ(Math.min(server.z, (d.sizeZ ?? 1) - 1));
+          if (link || named || search.get("t") === null) setT(Math.min(server.t, (d.sizeT ?? 1) - 1));
           setComposite(server.blend);
+          if (server.correction && !link) setCorrection(server.correction);
+          if (server.zoom && server.pan) {
+            const restored = { zoom: server.zoom, pan: server.pan };
+            requestAnimationFrame(() => viewport.current?.setCamera(restored));
+          }
         } else if (saved && saved.length === defaults.length) {
           base = saved.map((ch) => ({ ...ch, gamma: ch.gamma ?? 1, tableId: ch.tableId ?? null }));
         }
-        setChannels(visibleFromUrl ? base.map((ch) => ({ ...ch, visible: visibleFromUrl.includes(ch.c) })) : base);
+        setChannels(visibleFromUrl && !link && !named ? base.map((ch) => ({ ...ch, visible: visibleFromUrl.includes(ch.c) })) : base);
       });
-  }, [datasetQuery.data, channels, search, storageKey, savedView.isPending, savedView.data]);
+  }, [datasetQuery.data, channels, search, storageKey, savedView.isPending, savedView.data, link, namedViewId, namedViews.isPending, namedViews.data]);
 
   // Saves the view a second after the last change; a failed save is retried on the next change.
   const [viewSaved, setViewSaved] = useState<"saved" | "failed" | null>(null);
-  const presets = usePresets(labId);
+  const presets = usePresets(labId, !link);
   const createPreset = useCreatePreset(labId);
   const [presetNote, setPresetNote] = useState<string | null>(null);
+  // The current view as the server stores it (view state, saved views and link snapshots share it).
+  const viewBody = useMemo(
+    () =>
+      channels
+        ? {
+            z,
+            t,
+            blend: composite,
+            ...(camera ? { zoom: camera.zoom, pan: camera.pan } : {}),
+            // The flat/dark choice belongs to the lab's datasets; a link's snapshot leaves it out.
+            ...(link ? {} : { correction }),
+            channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, colour: ch.colour, tableId: ch.tableId, gamma: ch.gamma, black: ch.black, white: ch.white })),
+          }
+        : null,
+    [channels, z, t, composite, camera, correction, link],
+  );
   useEffect(() => {
-    if (!channels) return;
+    // Through a link nothing is saved: a guest's changes stay in this tab.
+    if (!viewBody || link) return;
     const handle = setTimeout(() => {
-      const body = {
-        z,
-        t,
-        blend: composite,
-        channels: channels.map((ch) => ({ c: ch.c, visible: ch.visible, colour: ch.colour, tableId: ch.tableId, gamma: ch.gamma, black: ch.black, white: ch.white })),
-      };
-      api(`/api/datasets/${datasetId}/view`, { method: "PUT", body }).then(
+      api(`/api/datasets/${datasetId}/view`, { method: "PUT", body: viewBody }).then(
         () => setViewSaved("saved"),
         () => setViewSaved("failed"),
       );
     }, 1000);
     return () => clearTimeout(handle);
-  }, [channels, z, t, composite, datasetId]);
+  }, [viewBody, datasetId, link]);
 
   useEffect(() => {
-    if (channels) void idbSet(storageKey, channels).catch(() => undefined);
-  }, [channels, storageKey]);
+    if (channels && !link) void idbSet(storageKey, channels).catch(() => undefined);
+  }, [channels, storageKey, link]);
 
   // The plane and visible channels live in the URL, so a reload or a copied address opens the same view.
   useEffect(() => {
@@ -175,7 +233,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     bench
       .open({
         datasetId,
-        fileUrl: `/api/datasets/${datasetId}/file`,
+        fileUrl: `${apiBase}/file`,
         size: dataset.sizeBytes,
         planes: planesQuery.data.map((p) => ({ ifdIndex: p.ifdIndex, ifdOffset: p.ifdOffset, c: p.c, z: p.z, t: p.t })),
         width: dataset.width ?? 0,
@@ -184,16 +242,16 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
       })
       .then(() => setOpened(true))
       .catch((e: unknown) => setError(e instanceof Error ? e.message : String(e)));
-  }, [bench, dataset, planesQuery.data, opened, datasetId, ceiling]);
+  }, [bench, dataset, planesQuery.data, opened, datasetId, ceiling, apiBase]);
 
   // Clipping-mark colours are chosen, not fixed: the candidates farthest (CIEDE2000) from every colour
   // on screen, so the marks stay visible whatever the mapping (LOOK.md).
   const markColours = useMemo(() => {
     const visible = (channels ?? []).filter((c) => c.visible);
-    const tables = visible.map((c) => (c.tableId && findTable(c.tableId)) || singleHueTable(c.colour));
+    const tables = visible.map((c) => (c.tableId && (findTable(c.tableId) ?? customTables.byId.get(c.tableId))) || singleHueTable(c.colour));
     const choice = chooseMarkColours(tables, visible.map((c) => c.colour));
     return { high: toHex(choice.high), low: toHex(choice.low) };
-  }, [channels]);
+  }, [channels, customTables.byId]);
 
   // Channel colours must stay apart under every colour-vision deficiency. Compared on hue and chroma
   // (lightness ignored): in an overlay each channel's brightness follows its signal, so lightness
@@ -235,7 +293,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     return () => {
       stale = true;
     };
-  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady, lowMarkMode, lowMarkPercent, highMarkPercent]);
+  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady, lowMarkMode, lowMarkPercent, highMarkPercent, customTables.registered]);
 
   // Loads the chosen flat-field and dark frames into the worker (one plane each, by their stored IFD offsets).
   useEffect(() => {
@@ -293,6 +351,23 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
     void bench.prefetch(z, ahead).catch(() => undefined);
   }, [bench, opened, playing, t, z, sizeT]);
 
+  // Opens a named saved view in place: plane, blend, camera and each channel's mapping.
+  const openSavedView = useCallback((view: { name: string; state: Omit<ViewStateOut, "datasetId" | "updatedAt"> }) => {
+    const v = view.state;
+    setZ(Math.min(v.z, sizeZ - 1));
+    setT(Math.min(v.t, sizeT - 1));
+    setComposite(v.blend);
+    setChannels(
+      (all) =>
+        all?.map((ch) => {
+          const saved = v.channels.find((x) => x.c === ch.c);
+          return saved ? { ...ch, visible: saved.visible, colour: saved.colour.toLowerCase(), tableId: saved.tableId, gamma: saved.gamma, black: saved.black, white: saved.white } : ch;
+        }) ?? all,
+    );
+    if (v.zoom && v.pan) viewport.current?.setCamera({ zoom: v.zoom, pan: v.pan });
+    setStartedFrom(`Opened the saved view "${view.name}".`);
+  }, [sizeZ, sizeT]);
+
   const updateChannel = useCallback((c: number, patch: Partial<ChannelState>) => {
     setChannels((all) => all?.map((ch) => (ch.c === c ? { ...ch, ...patch } : ch)) ?? all);
   }, []);
@@ -349,11 +424,29 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
       }
       setChannels((all) => all?.map((ch) => ({ ...ch, ...(updates.get(ch.c) ?? {}) })) ?? all);
       setComposite(preset.blend);
+      // Clipping-mark settings travel with the preset; the mark colours are chosen again for the
+      // colours now on screen (the stored ones are a record of what the preset's maker saw).
+      const withMarks = pairs.find((p) => p.preset.clipMarks)?.preset.clipMarks;
+      setMarks(Boolean(withMarks));
+      if (withMarks) {
+        setLowMarkMode(withMarks.lowMode ?? "black");
+        if (withMarks.lowPercent !== undefined) setLowMarkPercent(withMarks.lowPercent);
+        setHighMarkPercent(withMarks.highPercent ?? 0);
+      }
       const how = pairs.map((p) => `${channels.find((ch) => ch.c === p.c)?.name} by ${p.by}`).join(", ");
       setPresetNote(`Applied "${preset.name}": ${how || "no channel"}${unmatched.length ? `; ${unmatched.length} preset channel${unmatched.length === 1 ? "" : "s"} matched nothing here` : ""}.`);
     },
     [presets.data, channels, dataset, bench, z, t],
   );
+
+  // ?preset=<id> (from "Apply to…" on the Presets page) applies that preset once, when the plane is ready.
+  const presetFromUrl = link ? null : Number(search.get("preset")) || null;
+  const presetApplied = useRef(false);
+  useEffect(() => {
+    if (!presetFromUrl || presetApplied.current || !opened || !channels || !presets.data) return;
+    presetApplied.current = true;
+    void applyPreset(presetFromUrl);
+  }, [presetFromUrl, opened, channels, presets.data, applyPreset]);
 
   const savePreset = useCallback(
     async (scope: "private" | "lab") => {
@@ -372,6 +465,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             tableId: ch.tableId,
             gamma: ch.gamma,
             range: { mode: "counts", black: ch.black, white: ch.white },
+            ...(marks ? { clipMarks: { high: markColours.high, low: markColours.low, lowMode: lowMarkMode, lowPercent: lowMarkPercent, highPercent: highMarkPercent } } : {}),
           }),
         ),
       };
@@ -382,7 +476,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         setPresetNote(e instanceof Error ? e.message : String(e));
       }
     },
-    [channels, dataset, composite, createPreset],
+    [channels, dataset, composite, createPreset, marks, markColours, lowMarkMode, lowMarkPercent, highMarkPercent],
   );
 
   const onPointer = useCallback(
@@ -461,13 +555,37 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
       aria-label="Bench: arrow keys move through t and z, space plays, + and − zoom, 0 fits, 1 is 1:1, ? lists keys"
     >
       <div className="flex flex-wrap items-center gap-3 border-b border-graphite-700 px-4 py-2 text-sm">
-        <Link href={`/labs/${labId}/datasets`} className="text-graphite-200 hover:text-white">
-          Datasets
-        </Link>
+        {link ? (
+          <span className="text-graphite-200">Shared view</span>
+        ) : (
+          <Link href={`/labs/${labId}/datasets`} className="text-graphite-200 hover:text-white">
+            Datasets
+          </Link>
+        )}
         <span aria-hidden className="text-graphite-400">▸</span>
         <h1 className="font-medium text-white">{dataset.title}</h1>
         {dataset.lossy && <span className="rounded bg-fault-700 px-1.5 py-0.5 text-xs font-semibold text-white">lossy — not for quantification</span>}
         <span className="ml-auto flex items-center gap-3">
+          {link ? (
+            <>
+              {link.data.viewer?.canSaveAsMine && viewBody && <SaveAsMineButton datasetId={datasetId} view={viewBody} />}
+              {link.data.link.allowDownload && (
+                <a href={`${apiBase}/file`} download className="text-xs text-graphite-200 underline hover:text-white">
+                  Download original
+                </a>
+              )}
+            </>
+          ) : (
+            <>
+              {viewBody && <SavedViewsMenu datasetId={datasetId} view={viewBody} onOpen={openSavedView} />}
+              {can(datasetQuery.data?.role, "share.create") && (
+                <button type="button" onClick={() => setSharing(true)} disabled={!viewBody} className="rounded bg-flux-600 px-2 py-0.5 text-xs font-medium text-white hover:bg-flux-500 disabled:opacity-50">
+                  Share…
+                </button>
+              )}
+            </>
+          )}
+          {!link && (
           <label className="flex items-center gap-1 text-xs text-graphite-200">
             Preset
             <select
@@ -492,6 +610,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               {can(datasetQuery.data?.role, "presets.edit") && <option value="save-lab">Save current as lab preset…</option>}
             </select>
           </label>
+          )}
           <label className="flex items-center gap-1 text-xs text-graphite-200">
             Blend
             <select value={composite} onChange={(e) => setComposite(e.target.value as "add" | "max")} className="rounded border border-graphite-600 bg-graphite-900 px-1 py-0.5 text-xs">
@@ -526,14 +645,31 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               <option value="tritanopia">tritanopia</option>
             </select>
           </label>
-          <Link href={`/labs/${labId}/datasets/${datasetId}/details`} className="text-xs text-graphite-200 underline hover:text-white">
-            Details
-          </Link>
+          {!link && (
+            <Link href={`/labs/${labId}/datasets/${datasetId}/details`} className="text-xs text-graphite-200 underline hover:text-white">
+              Details
+            </Link>
+          )}
+          <button type="button" onClick={() => setFigure(true)} disabled={!rendered || !channels} className="rounded border border-graphite-600 px-2 py-0.5 text-xs disabled:opacity-50">
+            Export figure…
+          </button>
           <button type="button" onClick={() => setHelp(true)} className="rounded border border-graphite-600 px-2 py-0.5 text-xs" aria-label="Keyboard shortcuts">
             ?
           </button>
         </span>
       </div>
+      {link && (
+        <p className="border-b border-graphite-700 bg-graphite-900 px-4 py-1.5 text-xs text-graphite-200" role="note">
+          A shared view, read only: you may move through planes and change the mapping here, but nothing is saved
+          {link.data.viewer?.canSaveAsMine ? " unless you choose “Save as my view”" : ""}.
+          {link.data.link.expiresAt ? ` The link works until ${new Date(link.data.link.expiresAt).toLocaleString()}.` : ""} Display mappings are not data; research use only.
+        </p>
+      )}
+      {startedFrom && (
+        <p className="border-b border-graphite-700 bg-graphite-900 px-4 py-1.5 text-xs text-graphite-200" role="status">
+          {startedFrom}
+        </p>
+      )}
       <div className="flex min-h-0 flex-1">
         <div className="flex min-w-0 flex-1 flex-col">
           <div className="relative min-h-[420px] flex-1">
@@ -544,7 +680,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
                 </span>
               ))}
             </div>
-            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={showScaleBar ? pixelSize : null} onPointer={onPointer} />
+            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={showScaleBar ? pixelSize : null} onPointer={onPointer} onCameraChange={setCamera} overlay={link ? undefined : (view) => <RegionOverlay ctl={regions} view={view} width={dataset.width ?? 1} height={dataset.height ?? 1} />} />
             {showTime && dataset.timeIncrement != null && (
               <span className="num pointer-events-none absolute right-4 top-2 z-10 text-sm text-white" aria-label="Time stamp on the image">
                 {formatTime(t * dataset.timeIncrement)}
@@ -567,6 +703,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
                 {readout.values.map((v) => (
                   <span key={v.c}>
                     {channels?.[v.c]?.name ?? `c${v.c}`} <strong className="font-semibold text-white">{v.value}</strong> <span className="text-graphite-300">DN</span>
+                    <PhotoelectronReadout dn={v.value} detector={dataset?.detector} />
                     {correction.on && correctionReady && v.corrected !== undefined && (
                       <span className="text-graphite-200"> (corrected {v.corrected === null ? "invalid" : v.corrected.toFixed(1)})</span>
                     )}
@@ -648,6 +785,7 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
             <ChannelCard
               key={ch.c}
               channel={ch}
+              extraTables={customTables.extraTables}
               stats={rendered?.channels.find((s) => s.c === ch.c)}
               ceiling={ceiling}
               pixelCount={pixelCount}
@@ -661,15 +799,22 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
               offset={datasetQuery.data?.channelStats.find((x) => x.c === ch.c)?.percentiles?.["0.01"] ?? null}
             />
           ))}
-          <CorrectionPanel
-            labId={labId}
-            datasetId={datasetId}
-            width={dataset.width ?? 0}
-            height={dataset.height ?? 0}
-            value={correction}
-            status={correctionStatus}
-            onChange={setCorrection}
-          />
+          {/* Flat/dark frames are other datasets of the lab: not reachable through a link. */}
+          {!link && (
+            <CorrectionPanel
+              labId={labId}
+              datasetId={datasetId}
+              width={dataset.width ?? 0}
+              height={dataset.height ?? 0}
+              value={correction}
+              status={correctionStatus}
+              onChange={setCorrection}
+            />
+          )}
+          {/* Regions: not through view links (a guest's bench is read-only and sees no lab data beyond the snapshot). */}
+          {!link && channels && (
+            <RegionsPanel ctl={regions} bench={bench} opened={opened} dataset={dataset} channels={channels} z={z} t={t} corrected={correction.on && correctionReady} />
+          )}
           <p className="text-[11px] leading-snug text-graphite-300">
             Mappings change only the display; the stored counts are never changed. Colour-vision preview simulates Machado, Oliveira &amp; Fernandes (2009). Fit uses exact percentiles of the integer histogram (Hyndman &amp; Fan type 7), never a sort or a display value.
           </p>
@@ -714,6 +859,22 @@ export function Bench({ labId, datasetId }: { labId: number; datasetId: number }
         {firstDrawMs !== null && <span className="num text-graphite-300">first plane drawn in {firstDrawMs} ms</span>}
       </div>
       {help && <HelpOverlay onClose={() => setHelp(false)} />}
+      {figure && channels && (
+        <FigureDialog
+          render={rendered}
+          dataset={dataset}
+          channels={channels}
+          blend={composite}
+          z={z}
+          t={t}
+          clipMarks={marks ? { ...markColours, lowMode: lowMarkMode, lowPercent: lowMarkPercent, highPercent: highMarkPercent || undefined } : null}
+          cvd={cvd}
+          correction={correction.on && correctionReady ? correction : null}
+          onUseColours={(colours) => setChannels((all) => all?.map((ch, i) => ({ ...ch, colour: colours[i].toLowerCase(), tableId: null })) ?? all)}
+          onClose={() => setFigure(false)}
+        />
+      )}
+      {sharing && viewBody && <ShareDialog datasetId={datasetId} view={viewBody} onClose={() => setSharing(false)} />}
     </div>
   );
 }

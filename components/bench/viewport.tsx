@@ -1,11 +1,17 @@
 "use client";
 
-import { forwardRef, useCallback, useEffect, useImperativeHandle, useRef, useState } from "react";
+import { forwardRef, useCallback, useEffect, useImperativeHandle, useRef, useState, type ReactNode } from "react";
 
 /** A point in image pixels (not screen pixels): kept apart so zoom cannot mix the two spaces. */
 export interface ImagePoint {
   x: number;
   y: number;
+}
+
+/** Zoom (screen pixels per image pixel) and the image point at the centre of the viewport: saved with a view. */
+export interface Camera {
+  zoom: number;
+  pan: ImagePoint;
 }
 
 export interface ViewportHandle {
@@ -15,6 +21,8 @@ export interface ViewportHandle {
   oneToOne(): void;
   /** The part of the image on screen, in image pixels (for Fit over the visible area). */
   visibleRect(): { x: number; y: number; width: number; height: number };
+  /** Moves to a saved camera (clamped to the zoom limits); later resizes keep its centre. */
+  setCamera(camera: Camera): void;
 }
 
 interface Props {
@@ -23,6 +31,13 @@ interface Props {
   /** Micrometres per pixel, for the scale bar; null hides it. */
   pixelSizeUm: number | null;
   onPointer: (point: ImagePoint | null) => void;
+  /** Told after every zoom or pan, so the bench can save the camera with the view. */
+  onCameraChange?: (camera: Camera) => void;
+  /**
+   * Drawn over the image in the viewport's box (e.g. the regions' SVG), given the current transform:
+   * screen = image · scale + (x, y), in CSS pixels relative to the box.
+   */
+  overlay?: (view: { scale: number; x: number; y: number }) => ReactNode;
 }
 
 const MAX_SCALE = 32;
@@ -36,25 +51,50 @@ export function niceScaleBar(umPerScreenPx: number): { um: number; px: number } 
   return { um, px: um / umPerScreenPx };
 }
 
-export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ width, height, pixelSizeUm, onPointer }, ref) {
+const MIN_SCALE = 0.05;
+
+export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ width, height, pixelSizeUm, onPointer, onCameraChange, overlay }, ref) {
   const box = useRef<HTMLDivElement>(null);
   const canvas = useRef<HTMLCanvasElement>(null);
   const [view, setView] = useState({ scale: 1, x: 0, y: 0 });
   const drag = useRef<{ x: number; y: number; vx: number; vy: number } | null>(null);
+  // Until the person zooms or pans (or a saved camera is restored), a resize fits the image again;
+  // afterwards a resize keeps the image point at the centre where it was.
+  const placed = useRef(false);
+  const onCamera = useRef(onCameraChange);
+  useEffect(() => {
+    onCamera.current = onCameraChange;
+  }, [onCameraChange]);
 
   const fitView = useCallback(() => {
     const rect = box.current?.getBoundingClientRect();
     if (!rect || !rect.width) return;
+    placed.current = false;
     const scale = Math.min(MAX_SCALE, rect.width / width, rect.height / height);
     setView({ scale, x: (rect.width - width * scale) / 2, y: (rect.height - height * scale) / 2 });
   }, [width, height]);
 
+  const placeCamera = useCallback((camera: Camera) => {
+    const rect = box.current?.getBoundingClientRect();
+    if (!rect || !rect.width) return;
+    placed.current = true;
+    const scale = Math.min(MAX_SCALE, Math.max(MIN_SCALE, camera.zoom));
+    setView({ scale, x: rect.width / 2 - camera.pan.x * scale, y: rect.height / 2 - camera.pan.y * scale });
+  }, []);
+
+  useEffect(() => {
+    const rect = box.current?.getBoundingClientRect();
+    if (!rect || !rect.width) return;
+    onCamera.current?.({ zoom: view.scale, pan: { x: (rect.width / 2 - view.x) / view.scale, y: (rect.height / 2 - view.y) / view.scale } });
+  }, [view]);
+
   const zoomAt = useCallback((factor: number, cx?: number, cy?: number) => {
+    placed.current = true;
     setView((v) => {
       const rect = box.current?.getBoundingClientRect();
       const px = cx ?? (rect ? rect.width / 2 : 0);
       const py = cy ?? (rect ? rect.height / 2 : 0);
-      const scale = Math.min(MAX_SCALE, Math.max(0.05, v.scale * factor));
+      const scale = Math.min(MAX_SCALE, Math.max(MIN_SCALE, v.scale * factor));
       const k = scale / v.scale;
       return { scale, x: px - (px - v.x) * k, y: py - (py - v.y) * k };
     });
@@ -81,17 +121,31 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
         return { x: x0, y: y0, width: Math.max(1, x1 - x0), height: Math.max(1, y1 - y0) };
       },
       fit: fitView,
+      setCamera: placeCamera,
       oneToOne: () => {
         const rect = box.current?.getBoundingClientRect();
-        if (rect) setView({ scale: 1, x: (rect.width - width) / 2, y: (rect.height - height) / 2 });
+        if (!rect) return;
+        placed.current = true;
+        setView({ scale: 1, x: (rect.width - width) / 2, y: (rect.height - height) / 2 });
       },
     }),
-    [fitView, zoomAt, width, height, view],
+    [fitView, zoomAt, placeCamera, width, height, view],
   );
 
   useEffect(() => {
     fitView();
-    const observer = new ResizeObserver(() => fitView());
+    let last = box.current?.getBoundingClientRect();
+    const observer = new ResizeObserver(() => {
+      const rect = box.current?.getBoundingClientRect();
+      if (!placed.current || !rect || !last) fitView();
+      else {
+        // Keep the centre: shift by half the change in size.
+        const dx = (rect.width - last.width) / 2;
+        const dy = (rect.height - last.height) / 2;
+        setView((v) => ({ ...v, x: v.x + dx, y: v.y + dy }));
+      }
+      last = rect;
+    });
     if (box.current) observer.observe(box.current);
     return () => observer.disconnect();
   }, [fitView]);
@@ -115,6 +169,7 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
       }}
       onPointerDown={(e) => {
         drag.current = { x: e.clientX, y: e.clientY, vx: view.x, vy: view.y };
+        placed.current = true;
         (e.target as Element).setPointerCapture?.(e.pointerId);
       }}
       onPointerUp={() => (drag.current = null)}
@@ -138,6 +193,7 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
         className="absolute left-0 top-0 origin-top-left"
         style={{ transform: `translate(${view.x}px, ${view.y}px) scale(${view.scale})`, imageRendering: "pixelated" }}
       />
+      {overlay?.(view)}
       {bar && (
         <div className="pointer-events-none absolute bottom-3 right-4 text-right text-[11px] text-white" aria-label={`Scale bar ${bar.um} µm`}>
           <div className="mb-1 h-1 bg-white" style={{ width: `${bar.px}px`, marginLeft: "auto" }} />

@@ -1,6 +1,7 @@
 "use client";
 
 import Link from "next/link";
+import { SavedViews, ViewLinks } from "./views-and-links";
 import { useRouter } from "next/navigation";
 import { Button } from "@/components/ui/button";
 import { FormError } from "@/components/ui/field";
@@ -10,6 +11,7 @@ import { formatBytes, useDataset, useDeleteDataset, useRestoreDataset, useVerify
 import { can } from "@/lib/permissions";
 import type { DatasetOut } from "@/lib/schemas/dataset";
 import { MetadataForm } from "./metadata-form";
+import { SamplingCheck } from "./sampling-check";
 
 function Fact({ label, children }: { label: string; children: React.ReactNode }) {
   return (
@@ -96,7 +98,7 @@ function Integrity({ dataset }: { dataset: DatasetOut }) {
   );
 }
 
-export function DatasetDetails({ labId, datasetId }: { labId: number; datasetId: number }) {
+export function DatasetDetails({ labId, datasetId, userId = null }: { labId: number; datasetId: number; userId?: number | null }) {
   const router = useRouter();
   const query = useDataset(datasetId);
   const remove = useDeleteDataset(datasetId);
@@ -113,8 +115,13 @@ export function DatasetDetails({ labId, datasetId }: { labId: number; datasetId:
             ← Datasets
           </Link>
           <h1 className="mt-1 text-xl font-semibold tracking-tight">{dataset.title}</h1>
-          <div className="mt-1 text-sm">
+          <div className="mt-1 flex flex-wrap gap-3 text-sm">
             <StatusCell d={dataset} />
+            {dataset.status === "ready" && (
+              <Link href={`/labs/${labId}/datasets/${datasetId}/check`} className="text-flux-700 underline">
+                Acquisition check
+              </Link>
+            )}
           </div>
           {dataset.lossy && <p className="mt-2 rounded bg-fault-100 px-2 py-1 text-sm font-semibold text-fault-700">Lossy compression — not for quantification.</p>}
           {dataset.deletedAt && (
@@ -148,6 +155,7 @@ export function DatasetDetails({ labId, datasetId }: { labId: number; datasetId:
       <div className="grid gap-6 lg:grid-cols-[1fr_20rem]">
         <div className="space-y-6">
           <ChannelTable dataset={dataset} stats={channelStats} />
+          <SamplingCheck dataset={dataset} />
           {editor ? (
             <MetadataForm dataset={dataset} />
           ) : (
@@ -155,7 +163,14 @@ export function DatasetDetails({ labId, datasetId }: { labId: number; datasetId:
               <h2 className="mb-2 font-semibold">Experiment</h2>
               <p>{[dataset.experiment, dataset.sample, dataset.treatment].filter(Boolean).join(" · ") || "No experiment details yet."}</p>
               {dataset.notes && <p className="mt-2 whitespace-pre-wrap text-paper-700">{dataset.notes}</p>}
+              <p className="mt-2 text-paper-700">Detector profile: {dataset.detector ? <span className="text-paper-900">{dataset.detector.name}</span> : "none"}</p>
             </section>
+          )}
+          {!dataset.deletedAt && dataset.status === "ready" && (
+            <>
+              <SavedViews labId={labId} datasetId={datasetId} role={role} userId={userId} />
+              <ViewLinks datasetId={datasetId} role={role} />
+            </>
           )}
         </div>
         <aside className="space-y-6">

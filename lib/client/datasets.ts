@@ -29,8 +29,9 @@ export function useDatasets(labId: number, query: Record<string, string>) {
   });
 }
 
-export function useDataset(id: number) {
+export function useDataset(id: number, enabled = true) {
   return useQuery({
+    enabled,
     queryKey: ["datasets", id],
     queryFn: () => api<{ dataset: DatasetOut; channelStats: ChannelStatOut[]; role: Role }>(`/api/datasets/${id}`),
     refetchInterval: (q) => (q.state.data && busy(q.state.data.dataset) ? 1500 : false),

@@ -2,7 +2,7 @@
 
 import { getSession, signIn } from "next-auth/react";
 
-export type SignInResult = "ok" | "invalid" | "failed";
+export type SignInResult = "ok" | "invalid" | "limited" | "failed";
 
 /**
  * Signs in with next-auth's credentials provider without a page reload. Under `next dev` the first
@@ -13,6 +13,7 @@ export async function signInWithPassword(email: string, password: string): Promi
   for (let attempt = 0; attempt < 2; attempt++) {
     const result = await signIn("credentials", { email, password, redirect: false });
     if (result?.error === "CredentialsSignin") return "invalid";
+    if (result?.error === "RateLimited" || result?.status === 429) return "limited";
     if (result?.ok && !result.url?.includes("csrf=true")) {
       const session = await getSession();
       if (session?.user) return "ok";

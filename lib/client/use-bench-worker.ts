@@ -1,8 +1,8 @@
 "use client";
 
-import { releaseProxy, wrap, type Endpoint, type Remote } from "comlink";
+import { proxy, releaseProxy, wrap, type Endpoint, type Remote } from "comlink";
 import { useEffect, useState } from "react";
-import type { PercentileOptions, BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, RawValue } from "@/workers/bench-api";
+import type { PercentileOptions, BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, CustomTableRef, RawValue, RegionOptions, RegionRef, RegionResult, TraceRequest, TraceResult } from "@/workers/bench-api";
 
 /** A worker failure, with what the bench was doing in the message; the worker's error is `cause`. */
 export class BenchWorkerError extends Error {
@@ -171,8 +171,27 @@ export class BenchWorkerClient {
     return result;
   }
 
+  /** Region statistics and line profiles on one plane (regions panel). */
+  regionStats(z: number, t: number, regions: RegionRef[], signal?: AbortSignal, options?: RegionOptions): Promise<RegionResult[]> {
+    return this.call(`measuring regions at z ${z}, t ${t}`, signal, (r, id) => r.regionStats(z, t, regions, id, options));
+  }
+
+  /**
+   * A region's trace over every plane along t or z; `onProgress(done, total)` is called from the
+   * worker through a comlink proxy. Aborting the signal cancels the trace in the worker.
+   */
+  trace(request: TraceRequest, options: { signal?: AbortSignal; onProgress?: (done: number, total: number) => void } = {}): Promise<TraceResult> {
+    const progress = options.onProgress ? proxy(options.onProgress) : undefined;
+    return this.call(`tracing a region over ${request.axis}`, options.signal, (r, id) => r.trace(request, id, progress));
+  }
+
   close(): Promise<void> {
     return this.call("closing the dataset", undefined, (r) => r.close());
+  }
+
+  /** Makes a lab's own colour tables ("custom-<id>") known to the worker; a known id is replaced. */
+  registerTables(tables: CustomTableRef[]): Promise<number> {
+    return this.call("registering custom colour tables", undefined, async (r) => r.registerTables(tables));
   }
 }
 

@@ -6,6 +6,7 @@ export type AuditAction =
   | "user.signed_up"
   | "user.signed_in"
   | "user.sign_in_failed"
+  | "user.sign_in_paused"
   | "user.password_reset_requested"
   | "user.password_reset"
   | "lab.created"
@@ -20,7 +21,15 @@ export type AuditAction =
   | "dataset.deleted"
   | "dataset.restored"
   | "dataset.purged"
-  | "dataset.verified";
+  | "dataset.verified"
+  | "link.created"
+  | "link.opened"
+  | "link.revoked"
+  | "colour_table.created"
+  | "colour_table.deleted"
+  | "detector_profile.created"
+  | "detector_profile.deleted"
+  | "lab.check_thresholds_changed";
 
 export interface AuditEntry {
   action: AuditAction;

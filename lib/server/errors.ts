@@ -45,7 +45,8 @@ export function fieldErrors(error: ZodError): Record<string, string> {
 export function errorResponse(error: unknown): Response {
   if (error instanceof HttpError) {
     const body = { error: { code: error.code, message: error.message, ...(error.fields ? { fields: error.fields } : {}) } };
-    return Response.json(body, { status: error.status });
+    const retryAfter = (error as { retryAfterSeconds?: number }).retryAfterSeconds;
+    return Response.json(body, { status: error.status, headers: retryAfter ? { "Retry-After": String(retryAfter) } : undefined });
   }
   if (error instanceof ZodError) {
     return errorResponse(new HttpError(400, "invalid_input", "Some fields are not valid.", fieldErrors(error)));

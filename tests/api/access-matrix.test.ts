@@ -9,6 +9,7 @@ import { expectErrorShape } from "../helpers/errors";
 import { writeTiff } from "@/lib/tiff/writer";
 import { addMember, anonymous, Client, invite, labWithMembers, newUser, resetToken, uniqueEmail, type LabWithMembers } from "../helpers/http";
 import { putPart, sha256, startUpload, uploadFile, waitForIngest } from "../helpers/uploads";
+import { photonTransferTiff } from "../helpers/photon-transfer";
 
 const actors = ["anonymous", "viewer", "editor", "owner", "outsider"] as const;
 type Actor = (typeof actors)[number];
@@ -59,8 +60,58 @@ const labPreset = async (ctx: Ctx) => {
   return reply.body.preset.id as number;
 };
 const P = (ctx: Ctx, id: number) => `${L(ctx)}/presets/${id}`;
+/** A one-preset file (lib/schemas/preset-file.ts) under a fresh name, so no cell clashes with another. */
+const presetFile = () => JSON.stringify({ format: "fluxframe-presets", version: 1, presets: [presetBody("lab")] }, null, 2);
 const viewBody = { z: 0, t: 1, blend: "add", channels: [{ c: 0, visible: true, colour: "#00ff00", tableId: null, gamma: 1, black: 10, white: 4000 }] };
 const isMember = (who: Actor) => who === "viewer" || who === "editor" || who === "owner";
+// Colour tables: every mutating cell gets its own lab table, made by the owner under a fresh name.
+const colourTableBody = (scope: "private" | "lab" | "public") => ({
+  name: `Matrix table ${Math.random().toString(36).slice(2, 10)}`,
+  scope,
+  space: "oklab",
+  stops: [{ position: 0, colour: "#000000" }, { position: 1, colour: "#ffffff" }],
+});
+const labColourTable = async (ctx: Ctx) => {
+  const reply = await ctx.lab.owner.post(`${L(ctx)}/colour-tables`, colourTableBody("lab"));
+  if (reply.status !== 201) throw new Error(`lab colour table: ${reply.status} ${JSON.stringify(reply.body)}`);
+  return reply.body.table.id as number;
+};
+const CT = (ctx: Ctx, id: number) => `${L(ctx)}/colour-tables/${id}`;
+const greyCsv = "index,r,g,b\n" + Array.from({ length: 256 }, (_, i) => `${i},${i},${i},${i}\n`).join("");
+// Detector profiles: every mutating cell gets its own profile, typed in by the owner under a fresh name.
+const detectorBody = () => ({ name: `Matrix camera ${Math.random().toString(36).slice(2, 10)}`, bitDepth: 12, offsetDn: 100, gain: { value: 2, unit: "e_per_dn" } });
+const ownerDetector = async (ctx: Ctx) => {
+  const reply = await ctx.lab.owner.post(`${L(ctx)}/detector-profiles`, detectorBody());
+  if (reply.status !== 201) throw new Error(`detector profile: ${reply.status} ${JSON.stringify(reply.body)}`);
+  return reply.body.profile.id as number;
+};
+const DP = (ctx: Ctx, id: number) => `${L(ctx)}/detector-profiles/${id}`;
+// One small photon-transfer series (dark pair + flat pairs), uploaded once when a cell first needs it.
+let seriesId: Promise<number> | null = null;
+const seriesDataset = (ctx: Ctx) =>
+  (seriesId ??= (async () => {
+    const series = await photonTransferTiff({ side: 48 });
+    const id = (await uploadFile(ctx.lab.editor, ctx.lab.labId, series.bytes, { fileName: "matrix-series.tif", dimensions: series.dimensions })).body.datasetId as number;
+    expect((await waitForIngest(ctx.lab.editor, id)).dataset.status).toBe("ready");
+    return id;
+  })());
+// A fresh lab-members view link made by the owner (with download allowed when asked for).
+const ownerLink = async (ctx: Ctx, allowDownload = false) => {
+  const reply = await ctx.lab.owner.post(`${D(ctx.datasetId)}/links`, { state: viewBody, access: "lab", allowDownload });
+  if (reply.status !== 201) throw new Error(`link: ${reply.status} ${JSON.stringify(reply.body)}`);
+  return { id: reply.body.link.id as number, token: reply.body.token as string };
+};
+// Regions: a fresh rectangle drawn by the owner for each mutating cell.
+const ownerRegion = async (ctx: Ctx) => {
+  const reply = await ctx.lab.owner.post(`${D(ctx.datasetId)}/regions`, { name: "Matrix region", kind: "rect", geometry: { x: 0, y: 0, width: 2, height: 2 } });
+  if (reply.status !== 201) throw new Error(`region: ${reply.status} ${JSON.stringify(reply.body)}`);
+  return reply.body.region.id as number;
+};
+const ownerSavedView = async (ctx: Ctx) => {
+  const reply = await ctx.lab.owner.post(`${D(ctx.datasetId)}/saved-views`, { name: `Owner view ${Math.random().toString(36).slice(2, 10)}`, state: viewBody });
+  if (reply.status !== 201) throw new Error(`saved view: ${reply.status} ${JSON.stringify(reply.body)}`);
+  return reply.body.view.id as number;
+};
 
 // Public routes answer the same to everyone. Lab routes: anonymous 401, a member whose role lacks the
 // action 403, a member of another lab 404 (as if the lab did not exist). Mutating cells get fresh
@@ -102,6 +153,7 @@ const table: [method: string, route: string, statuses: Statuses, target: Target]
   ["DELETE", "/api/labs/[labId]/invitations/[invitationId]",        [401, 403, 403, 204, 404],
     async (c) => ({ path: `${L(c)}/invitations/${(await invite(c.lab.owner, c.lab.labId, uniqueEmail("invitee"), "viewer")).id}` })],
   ["GET",    "/api/labs/[labId]/datasets",                          [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/datasets` })],
+  ["GET",    "/api/labs/[labId]/datasets/compression",              [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/datasets/compression` })],
   ["POST",   "/api/labs/[labId]/uploads",                           [401, 403, 201, 201, 404],
     async (c) => ({ path: `${L(c)}/uploads`, body: { fileName: "matrix.tif", sizeBytes: tiff.length } })],
   ["GET",    "/api/labs/[labId]/uploads/[uploadId]",                [401, 403, 200, 200, 404], async (c) => ({ path: U(c, (await freshUpload(c)).id) })],
@@ -130,6 +182,29 @@ const table: [method: string, route: string, statuses: Statuses, target: Target]
     async (c) => ({ path: P(c, await labPreset(c)), body: { version: 1, name: `Renamed by ${c.who} ${Math.random().toString(36).slice(2, 8)}` } })],
   ["DELETE", "/api/labs/[labId]/presets/[presetId]",                [401, 403, 204, 204, 404], async (c) => ({ path: P(c, await labPreset(c)) })],
   ["POST",   "/api/labs/[labId]/presets/[presetId]/duplicate",      [401, 201, 201, 201, 404], async (c) => ({ path: `${P(c, await labPreset(c))}/duplicate`, body: {} })],
+  ["GET",    "/api/labs/[labId]/presets/export",                    [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/presets/export` })],
+  // Importing into the lab needs presets.edit; into one's private presets (any member) is in presets-import.test.ts.
+  ["POST",   "/api/labs/[labId]/presets/import",                    [401, 403, 201, 201, 404],
+    async (c) => ({ path: `${L(c)}/presets/import`, body: { scope: "lab", text: presetFile() } })],
+  ["GET",    "/api/labs/[labId]/colour-tables",                     [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/colour-tables` })],
+  // Lab tables need presets.edit; private ones (any member) and public ones are covered in colour-tables.test.ts.
+  ["POST",   "/api/labs/[labId]/colour-tables",                     [401, 403, 201, 201, 404], async (c) => ({ path: `${L(c)}/colour-tables`, body: colourTableBody("lab") })],
+  ["POST",   "/api/labs/[labId]/colour-tables/import",              [401, 403, 201, 201, 404],
+    async (c) => ({ path: `${L(c)}/colour-tables/import`, body: { format: "csv", content: greyCsv, name: colourTableBody("lab").name, scope: "lab" } })],
+  ["GET",    "/api/labs/[labId]/colour-tables/[colourTableId]",     [401, 200, 200, 200, 404], async (c) => ({ path: CT(c, await labColourTable(c)) })],
+  ["PATCH",  "/api/labs/[labId]/colour-tables/[colourTableId]",     [401, 403, 200, 200, 404],
+    async (c) => ({ path: CT(c, await labColourTable(c)), body: { version: 1, name: colourTableBody("lab").name } })],
+  ["DELETE", "/api/labs/[labId]/colour-tables/[colourTableId]",     [401, 403, 204, 204, 404], async (c) => ({ path: CT(c, await labColourTable(c)) })],
+  ["GET",    "/api/labs/[labId]/colour-tables/[colourTableId]/export", [401, 200, 200, 200, 404], async (c) => ({ path: `${CT(c, await labColourTable(c))}/export?format=csv` })],
+  // Detector profiles: members read them; editors and owners keep them (detectors.edit).
+  ["GET",    "/api/labs/[labId]/detector-profiles",                 [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/detector-profiles` })],
+  ["POST",   "/api/labs/[labId]/detector-profiles",                 [401, 403, 201, 201, 404], async (c) => ({ path: `${L(c)}/detector-profiles`, body: detectorBody() })],
+  ["GET",    "/api/labs/[labId]/detector-profiles/[profileId]",     [401, 200, 200, 200, 404], async (c) => ({ path: DP(c, await ownerDetector(c)) })],
+  ["PATCH",  "/api/labs/[labId]/detector-profiles/[profileId]",     [401, 403, 200, 200, 404],
+    async (c) => ({ path: DP(c, await ownerDetector(c)), body: { version: 1, notes: `Edited by ${c.who}` } })],
+  ["DELETE", "/api/labs/[labId]/detector-profiles/[profileId]",     [401, 403, 204, 204, 404], async (c) => ({ path: DP(c, await ownerDetector(c)) })],
+  // The fit is computed and returned, nothing saved: any member may look.
+  ["POST",   "/api/datasets/[datasetId]/photon-transfer",           [401, 200, 200, 200, 404], async (c) => ({ path: `${D(await seriesDataset(c))}/photon-transfer`, body: {} })],
   // Members read the view they saved themselves; nobody else can save one for them.
   ["GET",    "/api/datasets/[datasetId]/view",                      [401, 200, 200, 200, 404],
     async (c) => {
@@ -140,6 +215,40 @@ const table: [method: string, route: string, statuses: Statuses, target: Target]
       return { path: `${D(c.datasetId)}/view` };
     }],
   ["PUT",    "/api/datasets/[datasetId]/view",                      [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/view`, body: viewBody })],
+  // View links: editors and owners make them; every member sees the list and the previews.
+  ["GET",    "/api/datasets/[datasetId]/links",                     [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/links` })],
+  ["POST",   "/api/datasets/[datasetId]/links",                     [401, 403, 201, 201, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/links`, body: { state: viewBody, access: "lab" } })],
+  ["DELETE", "/api/datasets/[datasetId]/links/[linkId]",            [401, 403, 200, 200, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/links/${(await ownerLink(c)).id}` })],
+  ["GET",    "/api/datasets/[datasetId]/links/[linkId]/preview",    [401, 200, 200, 200, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/links/${(await ownerLink(c)).id}/preview` })],
+  // Acquisition checks: every member reads them; only the owner sets the limits.
+  ["GET",    "/api/datasets/[datasetId]/check",                     [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/check` })],
+  ["GET",    "/api/labs/[labId]/checks",                            [401, 200, 200, 200, 404], async (c) => ({ path: `${L(c)}/checks` })],
+  ["PUT",    "/api/labs/[labId]/check-thresholds",                  [401, 403, 403, 200, 404],
+    async (c) => ({ path: `${L(c)}/check-thresholds`, body: { saturatedCaution: 0, saturatedReimage: 0.001, planeSaturatedReimage: 0.01, zeroCaution: 0.001, zeroReimage: 0.05, rangeUseCaution: 0.1 } })],
+  // Saved views: any member names one; the maker, editors and owners delete it.
+  ["GET",    "/api/datasets/[datasetId]/saved-views",               [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/saved-views` })],
+  ["POST",   "/api/datasets/[datasetId]/saved-views",               [401, 201, 201, 201, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/saved-views`, body: { name: `Matrix view ${Math.random().toString(36).slice(2, 10)}`, state: viewBody } })],
+  ["DELETE", "/api/datasets/[datasetId]/saved-views/[viewId]",      [401, 403, 204, 204, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/saved-views/${await ownerSavedView(c)}` })],
+  // Regions: the lab sees them; editors and owners draw, change and delete them (datasets.edit).
+  ["GET",    "/api/datasets/[datasetId]/regions",                   [401, 200, 200, 200, 404], async (c) => ({ path: `${D(c.datasetId)}/regions` })],
+  ["POST",   "/api/datasets/[datasetId]/regions",                   [401, 403, 201, 201, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/regions`, body: { name: "Matrix rect", kind: "rect", geometry: { x: 1, y: 1, width: 3, height: 3 } } })],
+  ["PATCH",  "/api/datasets/[datasetId]/regions/[regionId]",        [401, 403, 200, 200, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/regions/${await ownerRegion(c)}`, body: { version: 1, name: `Renamed by ${c.who}` } })],
+  ["DELETE", "/api/datasets/[datasetId]/regions/[regionId]",        [401, 403, 204, 204, 404],
+    async (c) => ({ path: `${D(c.datasetId)}/regions/${await ownerRegion(c)}` })],
+  // Opening a lab-members link: the token is the credential, but only lab members get through; a
+  // signed-in member of another lab is told the link is not for them (403), not that it is missing.
+  ["GET",    "/api/v/[token]",                                      [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}` })],
+  ["GET",    "/api/v/[token]/status",                               [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/status` })],
+  ["GET",    "/api/v/[token]/planes",                               [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/planes` })],
+  ["GET",    "/api/v/[token]/file",                                 [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/file` })],
+  ["GET",    "/api/v/[token]/preview",                              [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/preview` })],
 ];
 
 /** Every "METHOD /api/…" that a route.ts under app/api exports, except next-auth's own handler. */

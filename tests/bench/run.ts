@@ -20,6 +20,7 @@ import { fileSource } from "@/lib/tiff/file-source";
 import { readTiffHeader, readTiffStructure } from "@/lib/tiff/structure";
 import { createTiffWriter, type TiffWriteOptions } from "@/lib/tiff/writer";
 import { pixelBenches } from "./pixels";
+import { regionBenches } from "./regions";
 
 const SIDE = 2048;
 const PLANE_BYTES = SIDE * SIDE * 2;
@@ -248,6 +249,7 @@ async function main(): Promise<void> {
     await bytesToOpenLastPlane(dir);
     percentilesVsSort(planes[0]);
     rows.push(...(await pixelBenches()));
+    rows.push(...(await regionBenches()));
   } finally {
     await rm(dir, { recursive: true, force: true });
   }

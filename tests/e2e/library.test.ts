@@ -98,7 +98,7 @@ describe("the library in the browser", () => {
     try {
       await signIn(viewer, lab.viewer.email, lab.viewer.password);
       await viewer.page.goto(`${baseUrl}/labs/${lab.labId}/datasets`);
-      await viewer.page.getByRole("link", { name: "Spindle stack, fixed cells" }).waitFor();
+      await viewer.page.getByRole("link", { name: "Spindle stack, fixed cells", exact: true }).waitFor();
       expect(await viewer.page.getByLabel("Choose stack files to upload").count()).toBe(0);
     } finally {
       await viewer.close();

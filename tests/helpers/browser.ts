@@ -19,6 +19,9 @@ export async function openBrowser(): Promise<Person> {
     executablePath: process.env.CHROMIUM_PATH || "/usr/bin/chromium",
     headless: true,
     viewport: { width: 1280, height: 860 },
+    // Like tests/helpers/http.ts Client: each browser is its own machine for the server's per-address
+    // rate limits, so the suite's many sign-ins do not share one limit.
+    extraHTTPHeaders: { "x-forwarded-for": `10.${Math.floor(Math.random() * 256)}.${Math.floor(Math.random() * 256)}.${1 + Math.floor(Math.random() * 254)}` },
     args: [
       "--no-sandbox",
       "--disable-gpu",
@@ -30,12 +33,19 @@ export async function openBrowser(): Promise<Person> {
     ],
   });
   const page = context.pages()[0] ?? (await context.newPage());
+  // Anything the Content-Security-Policy refuses is a broken feature: collected here and reported
+  // when the browser closes, so every browser test also checks the policy lets the app work.
+  const refused: string[] = [];
+  context.on("console", (message) => {
+    if (message.type() === "error" && /Content Security Policy/i.test(message.text())) refused.push(message.text());
+  });
   return {
     context,
     page,
     close: async () => {
       await context.close();
       rmSync(profile, { recursive: true, force: true });
+      if (refused.length) throw new Error(`The Content-Security-Policy refused ${refused.length} thing(s):\n${refused.join("\n")}`);
     },
   };
 }

@@ -12,6 +12,11 @@ export interface Reply<T = any> {
 
 export class Client {
   private cookies = new Map<string, string>();
+  /**
+   * Each client speaks from its own made-up address (X-Forwarded-For, which the server's rate limits
+   * key on), like one person on one machine: the suite's many accounts do not share one limit.
+   */
+  readonly address = `10.${Math.floor(Math.random() * 256)}.${Math.floor(Math.random() * 256)}.${1 + Math.floor(Math.random() * 254)}`;
   email = "";
   password = "";
   name = "";
@@ -36,7 +41,7 @@ export class Client {
     const response = await fetch(`${baseUrl}${path}`, {
       method,
       redirect: "manual",
-      headers: { ...(this.cookies.size ? { cookie: this.cookieHeader() } : {}), ...init.headers },
+      headers: { "x-forwarded-for": this.address, ...(this.cookies.size ? { cookie: this.cookieHeader() } : {}), ...init.headers },
       body: init.body as BodyInit | undefined,
     });
     this.remember(response.headers);

@@ -17,6 +17,9 @@ const expected: Record<Action, [viewer: boolean, editor: boolean, owner: boolean
   "presets.read":       [true,  true,  true],
   "presets.edit":       [false, true,  true],
   "share.create":       [false, true,  true],
+  // Detector profiles: every member reads them (lab.read); editors and owners keep them.
+  "detectors.edit":     [false, true,  true],
+  "checks.configure":   [false, false, true],
 };
 
 describe("permissions", () => {

@@ -5,6 +5,6 @@ export const metadata = { title: "Dataset" };
 
 export default async function DatasetPage({ params }: { params: Promise<{ labId: string; datasetId: string }> }) {
   const { labId, datasetId } = await params;
-  const { lab } = await labPage(labId, "datasets.read");
-  return <DatasetDetails labId={lab.id} datasetId={Number(datasetId)} />;
+  const { lab, user } = await labPage(labId, "datasets.read");
+  return <DatasetDetails labId={lab.id} datasetId={Number(datasetId)} userId={user.id} />;
 }
