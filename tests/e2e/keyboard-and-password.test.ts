@@ -50,6 +50,9 @@ describe("keyboard and password reset", () => {
     const page = person.page;
     await page.goto(`${baseUrl}/signin`);
     await page.getByRole("link", { name: "Forgotten password?" }).click();
+    // Wait for the new page: until it arrives, the sign-in form's own E-mail field is still on screen.
+    await page.waitForURL(`${baseUrl}/forgot-password`);
+    await page.getByRole("button", { name: "Send reset link" }).waitFor();
     await page.getByLabel("E-mail").fill(account.email);
     await page.getByRole("button", { name: "Send reset link" }).click();
     await page.getByText("If an account uses this address, a reset link is on its way.").waitFor();
