@@ -1,5 +1,5 @@
 import "server-only";
-import { Op, UniqueConstraintError, type Transaction } from "sequelize";
+import { Op, type Transaction } from "sequelize";
 import { buildTableFromStops, parseTableCsv, parseTableJson, rgbToHexString, tableToCsv, tableToJson, type LineError } from "@/lib/imaging/table-editor";
 import { can, type Role } from "@/lib/permissions";
 import {
@@ -15,7 +15,9 @@ import { idParam } from "@/lib/schemas/lab";
 import type { ColourTable } from "@/models";
 import { audit } from "./audit";
 import { db } from "./db";
-import { conflict, forbidden, HttpError, notFound } from "./errors";
+import { forbidden, HttpError, notFound, uniqueName } from "./errors";
+
+const TABLE_NAME_TAKEN = "A colour table with that name already exists here.";
 
 // Colour tables, scoped like presets (lib/server/presets.ts) with one more scope: "public" tables
 // are listed in every lab and readable by every member of any lab, but only editors and owners of
@@ -32,17 +34,6 @@ export interface Caller {
 
 /** Lab and public tables share key 0: a lab's shared tables have distinct names (migrations/0006). */
 const nameScopeKey = (scope: ColourTableScope, ownerId: number) => (scope === "private" ? ownerId : 0);
-
-const nameTaken = () => conflict("A colour table with that name already exists here.", { name: "That name is already taken." });
-
-async function uniqueName<T>(work: () => Promise<T>): Promise<T> {
-  try {
-    return await work();
-  } catch (error) {
-    if (error instanceof UniqueConstraintError) throw nameTaken();
-    throw error;
-  }
-}
 
 /** The route's table id; anything but a plain positive integer is a 404, like an unknown id. */
 export function colourTableId(raw: unknown): number {
@@ -136,7 +127,7 @@ async function insert(caller: Caller, table: NewTable): Promise<ColourTableOut> 
   assertMayCreate(table.scope, caller);
   const { ColourTable, sequelize } = db();
   const id = await sequelize.transaction(async (transaction) => {
-    const row = await uniqueName(() =>
+    const row = await uniqueName(TABLE_NAME_TAKEN, () =>
       ColourTable.create(
         {
           labId: caller.labId,
@@ -212,7 +203,7 @@ export async function updateColourTable(tableId: number, caller: Caller, body: U
       changes.space = body.space;
       changes.rgb = Buffer.from(buildTableFromStops(changes.stops, body.space).rgb);
     }
-    const [affected] = await uniqueName(() =>
+    const [affected] = await uniqueName(TABLE_NAME_TAKEN, () =>
       ColourTable.update(
         { ...changes, version: sequelize.literal("version + 1") as unknown as number },
         { where: { id: table.id, version: body.version }, transaction },

@@ -1,6 +1,6 @@
 import "server-only";
 import { inflateSync } from "node:zlib";
-import { Op, UniqueConstraintError, type Transaction } from "sequelize";
+import { Op, type Transaction } from "sequelize";
 import { fitPhotonTransfer, gainToDnPerE, pairStats, PhotonTransferError, seriesPairs, type PhotonTransferFit } from "@/lib/imaging/photon-transfer";
 import type { Role } from "@/lib/permissions";
 import {
@@ -18,8 +18,10 @@ import type { Dataset, DetectorProfile } from "@/models";
 import { audit } from "./audit";
 import { blobByteSource } from "./blob-source";
 import { db } from "./db";
-import { conflict, HttpError, notFound } from "./errors";
+import { conflict, HttpError, notFound, uniqueName } from "./errors";
 import { blobStore } from "./storage";
+
+const PROFILE_NAME_TAKEN = "A detector profile with that name already exists in this lab.";
 
 // Detector profiles of a lab. Every member reads them (lab.read); editors and owners create, change
 // and delete them (detectors.edit, checked by the route wrapper). The gain is stored as K in DN per
@@ -36,17 +38,6 @@ export function detectorProfileId(raw: unknown): number {
   const id = idParam.safeParse(raw);
   if (!id.success) throw notFound("That detector profile");
   return id.data;
-}
-
-const nameTaken = () => conflict("A detector profile with that name already exists in this lab.", { name: "That name is already taken." });
-
-async function uniqueName<T>(work: () => Promise<T>): Promise<T> {
-  try {
-    return await work();
-  } catch (error) {
-    if (error instanceof UniqueConstraintError) throw nameTaken();
-    throw error;
-  }
 }
 
 async function findProfile(labId: number, id: number, transaction?: Transaction): Promise<DetectorProfile> {
@@ -124,7 +115,7 @@ export async function createDetectorProfile(caller: Caller, body: CreateDetector
       if (!source) throw new HttpError(400, "invalid_input", "The measured dataset is not one of this lab's.", { sourceDatasetId: "Choose one of the lab's datasets." });
     }
     const measured = body.source === "measured";
-    const row = await uniqueName(() =>
+    const row = await uniqueName(PROFILE_NAME_TAKEN, () =>
       DetectorProfile.create(
         {
           labId: caller.labId,
@@ -184,7 +175,7 @@ export async function updateDetectorProfile(caller: Caller, id: number, body: Up
     // A tiny relative tolerance: a gain typed as e⁻/DN comes back through 1/x.
     const moved = numbers.some((k) => changes[k] !== undefined && !same(changes[k] ?? null, profile[k] ?? null));
     if (profile.source === "measured" && moved) changes.source = "manual";
-    const [affected] = await uniqueName(() =>
+    const [affected] = await uniqueName(PROFILE_NAME_TAKEN, () =>
       DetectorProfile.update({ ...changes, version: sequelize.literal("version + 1") as unknown as number }, { where: { id: profile.id, labId: caller.labId, version: body.version }, transaction }),
     );
     const current = await getDetectorProfile(caller.labId, profile.id, transaction);

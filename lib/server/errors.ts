@@ -33,6 +33,19 @@ export const notFound = (what = "That item") => new HttpError(404, "not_found", 
 export const conflict = (message: string, fields?: Record<string, string>) => new HttpError(409, "conflict", message, fields);
 export const gone = (message: string) => new HttpError(410, "gone", message);
 
+/**
+ * Runs a write guarded by a unique-name index and turns a clash into a 409 with a field message
+ * (`message` names what is taken); other errors pass through.
+ */
+export async function uniqueName<T>(message: string, work: () => Promise<T>): Promise<T> {
+  try {
+    return await work();
+  } catch (error) {
+    if (error instanceof UniqueConstraintError) throw conflict(message, { name: "That name is already taken." });
+    throw error;
+  }
+}
+
 export function fieldErrors(error: ZodError): Record<string, string> {
   const fields: Record<string, string> = {};
   for (const issue of error.issues) {

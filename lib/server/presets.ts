@@ -12,7 +12,9 @@ import {
 } from "@/lib/schemas/preset";
 import type { Dataset, Preset } from "@/models";
 import { db } from "./db";
-import { conflict, forbidden, HttpError, notFound } from "./errors";
+import { conflict, forbidden, HttpError, notFound, uniqueName } from "./errors";
+
+const PRESET_NAME_TAKEN = "A preset with that name already exists here.";
 
 export interface Caller {
   userId: number;
@@ -51,18 +53,6 @@ export function presetOut(preset: Preset): PresetOut {
 /** The scope within which a name must be unique (see migrations/0004): the whole lab, or one person. */
 export const nameScopeKey = (scope: "private" | "lab", ownerId: number) => (scope === "lab" ? 0 : ownerId);
 
-const nameTaken = () => conflict("A preset with that name already exists here.", { name: "That name is already taken." });
-
-/** Turns the unique-name index into a 409 with a field message; other errors pass through. */
-async function uniqueName<T>(work: () => Promise<T>): Promise<T> {
-  try {
-    return await work();
-  } catch (error) {
-    if (error instanceof UniqueConstraintError) throw nameTaken();
-    throw error;
-  }
-}
-
 /** Lab presets, and the caller's own private ones; someone else's private preset is never visible. */
 export const visibleTo = (labId: number, userId: number) => ({
   labId,
@@ -90,7 +80,7 @@ export async function getPreset(labId: number, presetId: number, caller: Caller)
 
 export async function createPreset(labId: number, caller: Caller, body: CreatePresetBody): Promise<PresetOut> {
   assertMayChange(caller, body.scope);
-  const preset = await uniqueName(() =>
+  const preset = await uniqueName(PRESET_NAME_TAKEN, () =>
     db().Preset.create({
       labId,
       ownerId: caller.userId,
@@ -120,7 +110,7 @@ export async function updatePreset(labId: number, presetId: number, caller: Call
       ...(body.blend !== undefined ? { blend: body.blend } : {}),
       ...(body.channels !== undefined ? { channels: body.channels } : {}),
     };
-    const [affected] = await uniqueName(() =>
+    const [affected] = await uniqueName(PRESET_NAME_TAKEN, () =>
       Preset.update(
         { ...changes, version: sequelize.literal("version + 1") as unknown as number },
         { where: { id: preset.id, labId, version: body.version }, transaction },

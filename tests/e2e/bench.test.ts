@@ -5,7 +5,7 @@
 import { readFileSync } from "node:fs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadStackFixture, PERCENTS, type StackFixture } from "../imaging/stack-fixture";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { PYTHON, run, tempDir } from "../helpers/tiff-tools";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
@@ -34,12 +34,7 @@ beforeAll(async () => {
   frames.remove();
   person = await openBrowser();
   const page = person.page;
-  await page.goto(`${baseUrl}/signin`);
-  await page.locator("form[data-ready]").waitFor();
-  await page.getByLabel("E-mail").fill(lab.viewer.email);
-  await page.getByLabel("Password").fill(lab.viewer.password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${baseUrl}/labs`);
+  await signIn(page, lab.viewer.email, lab.viewer.password);
 });
 
 afterAll(async () => {
@@ -201,12 +196,7 @@ describe("the bench", () => {
     const other = await openBrowser();
     try {
       const p2 = other.page;
-      await p2.goto(`${baseUrl}/signin`);
-      await p2.locator("form[data-ready]").waitFor();
-      await p2.getByLabel("E-mail").fill(lab.viewer.email);
-      await p2.getByLabel("Password").fill(lab.viewer.password);
-      await p2.getByRole("button", { name: "Sign in" }).click();
-      await p2.waitForURL(`${baseUrl}/labs`);
+      await signIn(p2, lab.viewer.email, lab.viewer.password);
       await p2.goto(`${baseUrl}/labs/${lab.labId}/datasets/${datasetId}`);
       const m2 = p2.getByRole("region", { name: "Channel membrane" });
       await expect.poll(() => m2.getByRole("spinbutton", { name: "Gamma" }).inputValue(), { timeout: 20_000 }).toBe("0.7");

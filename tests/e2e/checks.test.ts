@@ -3,7 +3,7 @@
 // and z, and the owner's looser limits turn the verdict into "caution" at once.
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { writeTiff } from "@/lib/tiff/writer";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
 import { baseUrl } from "../setup/test-env";
@@ -28,12 +28,7 @@ beforeAll(async () => {
   await upload("Well exposed", Array.from({ length: 2 }, () => Uint16Array.from({ length: W * H }, (_, i) => ramp(i) + 1000)));
   person = await openBrowser();
   const page = person.page;
-  await page.goto(`${baseUrl}/signin`);
-  await page.locator("form[data-ready]").waitFor();
-  await page.getByLabel("E-mail").fill(lab.owner.email);
-  await page.getByLabel("Password").fill(lab.owner.password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${baseUrl}/labs`);
+  await signIn(page, lab.owner.email, lab.owner.password);
 });
 
 afterAll(async () => {

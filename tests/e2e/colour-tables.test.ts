@@ -6,7 +6,7 @@ import { readFileSync, writeFileSync } from "node:fs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { buildTableFromStops, tableToCsv } from "@/lib/imaging/table-editor";
 import { loadStackFixture, type StackFixture } from "../imaging/stack-fixture";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { tempDir } from "../helpers/tiff-tools";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
@@ -27,12 +27,7 @@ beforeAll(async () => {
   expect((await waitForIngest(lab.editor, datasetId)).dataset.status).toBe("ready");
   person = await openBrowser();
   const page = person.page;
-  await page.goto(`${baseUrl}/signin`);
-  await page.locator("form[data-ready]").waitFor();
-  await page.getByLabel("E-mail").fill(lab.editor.email);
-  await page.getByLabel("Password").fill(lab.editor.password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${baseUrl}/labs`);
+  await signIn(page, lab.editor.email, lab.editor.password);
 });
 
 afterAll(async () => {

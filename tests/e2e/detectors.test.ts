@@ -4,7 +4,7 @@
 // measured profile on a dataset, and read photoelectrons next to the raw value on the bench.
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_CAMERA } from "@/lib/imaging/synthetic";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { photonTransferTiff, type SeriesFile } from "../helpers/photon-transfer";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
@@ -24,12 +24,7 @@ beforeAll(async () => {
   expect((await waitForIngest(lab.editor, datasetId)).dataset.status).toBe("ready");
   person = await openBrowser();
   const page = person.page;
-  await page.goto(`${baseUrl}/signin`);
-  await page.locator("form[data-ready]").waitFor();
-  await page.getByLabel("E-mail").fill(lab.editor.email);
-  await page.getByLabel("Password").fill(lab.editor.password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${baseUrl}/labs`);
+  await signIn(page, lab.editor.email, lab.editor.password);
 });
 
 afterAll(async () => {

@@ -4,7 +4,7 @@
 import { readFileSync } from "node:fs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadStackFixture, type StackFixture } from "../imaging/stack-fixture";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { run, tempDir, PYTHON } from "../helpers/tiff-tools";
 import { sha256 } from "../helpers/uploads";
@@ -16,15 +16,6 @@ let plainPath: string;
 let tmp: ReturnType<typeof tempDir>;
 let editor: Person;
 
-async function signIn(person: Person, email: string, password: string) {
-  await person.page.goto(`${baseUrl}/signin`);
-  await person.page.locator("form[data-ready]").waitFor();
-  await person.page.getByLabel("E-mail").fill(email);
-  await person.page.getByLabel("Password").fill(password);
-  await person.page.getByRole("button", { name: "Sign in" }).click();
-  await person.page.waitForURL(`${baseUrl}/labs`);
-}
-
 beforeAll(async () => {
   lab = await labWithMembers();
   fixture = loadStackFixture();
@@ -33,7 +24,7 @@ beforeAll(async () => {
   // A plain multi-page TIFF written by tifffile (no OME-XML): 6 planes of 40×30.
   run(PYTHON, ["-c", `import numpy as np, tifffile; a=(np.arange(6*30*40,dtype=np.uint16).reshape(6,30,40)%4000); tifffile.imwrite(${JSON.stringify(plainPath)}, a, photometric="minisblack", metadata=None)`]);
   editor = await openBrowser();
-  await signIn(editor, lab.editor.email, lab.editor.password);
+  await signIn(editor.page, lab.editor.email, lab.editor.password);
 });
 
 afterAll(async () => {
@@ -96,7 +87,7 @@ describe("the library in the browser", () => {
   it("shows a viewer the library without an upload zone", async () => {
     const viewer = await openBrowser();
     try {
-      await signIn(viewer, lab.viewer.email, lab.viewer.password);
+      await signIn(viewer.page, lab.viewer.email, lab.viewer.password);
       await viewer.page.goto(`${baseUrl}/labs/${lab.labId}/datasets`);
       await viewer.page.getByRole("link", { name: "Spindle stack, fixed cells", exact: true }).waitFor();
       expect(await viewer.page.getByLabel("Choose stack files to upload").count()).toBe(0);

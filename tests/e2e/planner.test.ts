@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { formatBinary, formatDecimal } from "@/lib/imaging/planner";
 import { writeTiff } from "@/lib/tiff/writer";
 import { loadStackFixture, type StackFixture } from "../imaging/stack-fixture";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
 import { baseUrl } from "../setup/test-env";
@@ -21,15 +21,6 @@ let stackId: number;
 let editor: Person;
 let viewer: Person;
 let planUrl: string;
-
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto(`${baseUrl}/signin`);
-  await page.locator("form[data-ready]").waitFor();
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${baseUrl}/labs`);
-}
 
 const plan = {
   "Width (px)": "2000",

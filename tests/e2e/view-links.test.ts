@@ -6,7 +6,7 @@ import { readFileSync } from "node:fs";
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadStackFixture, type StackFixture } from "../imaging/stack-fixture";
-import { openBrowser, screenshot, type Person } from "../helpers/browser";
+import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
 import { baseUrl } from "../setup/test-env";
@@ -18,15 +18,6 @@ let editor: Person;
 let member: Person;
 let guest: Person;
 let linkUrl: string;
-
-async function signIn(page: Page, email: string, password: string) {
-  await page.goto(`${baseUrl}/signin`);
-  await page.locator("form[data-ready]").waitFor();
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password").fill(password);
-  await page.getByRole("button", { name: "Sign in" }).click();
-  await page.waitForURL(`${baseUrl}/labs`);
-}
 
 const blackOf = (page: Page, channel: string) => page.getByRole("region", { name: `Channel ${channel}` }).getByRole("spinbutton", { name: "Black point" });
 const whiteOf = (page: Page, channel: string) => page.getByRole("region", { name: `Channel ${channel}` }).getByRole("spinbutton", { name: "White point" });

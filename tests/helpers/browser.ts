@@ -4,6 +4,7 @@ import { mkdtempSync, mkdirSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join, resolve } from "node:path";
 import { chromium, type BrowserContext, type Page } from "playwright-core";
+import { baseUrl } from "../setup/test-env";
 
 export const screenshotDir = resolve(import.meta.dirname, "..", "..", ".data", "screenshots");
 
@@ -53,4 +54,14 @@ export async function openBrowser(): Promise<Person> {
 export async function screenshot(page: Page, name: string): Promise<void> {
   mkdirSync(screenshotDir, { recursive: true });
   await page.screenshot({ path: join(screenshotDir, `${name}.png`), fullPage: true });
+}
+
+/** Signs in through the real form (once it is hydrated) and waits for the labs page. */
+export async function signIn(page: Page, email: string, password: string): Promise<void> {
+  await page.goto(`${baseUrl}/signin`);
+  await page.locator("form[data-ready]").waitFor();
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL(`${baseUrl}/labs`);
 }
