@@ -16,6 +16,8 @@ export class Client {
    * Each client speaks from its own made-up address (X-Forwarded-For, which the server's rate limits
    * key on), like one person on one machine: the suite's many accounts do not share one limit.
    */
+  /** The app this client talks to; a test may point it at a second app process. */
+  base = baseUrl;
   readonly address = `10.${Math.floor(Math.random() * 256)}.${Math.floor(Math.random() * 256)}.${1 + Math.floor(Math.random() * 254)}`;
   email = "";
   password = "";
@@ -38,7 +40,7 @@ export class Client {
   }
 
   async raw(method: string, path: string, init: { body?: string | Uint8Array; headers?: Record<string, string> } = {}): Promise<Reply> {
-    const response = await fetch(`${baseUrl}${path}`, {
+    const response = await fetch(`${this.base}${path}`, {
       method,
       redirect: "manual",
       headers: { "x-forwarded-for": this.address, ...(this.cookies.size ? { cookie: this.cookieHeader() } : {}), ...init.headers },
