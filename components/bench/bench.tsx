@@ -795,8 +795,9 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
               onSolo={() => setChannels((all) => all?.map((x) => ({ ...x, visible: x.c === ch.c })) ?? all)}
               onFit={() => void fit(ch.c)}
               fitBusy={fitting === ch.c}
-              // Until detector profiles exist, the offset is estimated as the stack's 0.01 % point (common practice).
-              offset={datasetQuery.data?.channelStats.find((x) => x.c === ch.c)?.percentiles?.["0.01"] ?? null}
+              // The detector profile's offset when the dataset names one; otherwise estimated as the
+              // stack's 0.01 % point (common practice), as the acquisition check does.
+              offset={dataset.detector?.offsetDn ?? datasetQuery.data?.channelStats.find((x) => x.c === ch.c)?.percentiles?.["0.01"] ?? null}
             />
           ))}
           {/* Flat/dark frames are other datasets of the lab: not reachable through a link. */}

@@ -28,7 +28,7 @@ export function detectorSummary(p: DetectorProfile): DetectorSummary {
 }
 
 /** Rows loaded with a dataset: the uploader's name and the named detector profile. */
-const datasetIncludes = () => {
+export const datasetIncludes = () => {
   const { User, DetectorProfile } = db();
   return [
     { model: User, as: "uploadedBy" },

@@ -7,7 +7,7 @@ import type { DatasetOut } from "@/lib/schemas/dataset";
 import type { Dataset, SavedView, ViewLink } from "@/models";
 import type { SessionUser } from "./access";
 import { audit } from "./audit";
-import { channelStats, datasetOut } from "./datasets";
+import { channelStats, datasetIncludes, datasetOut } from "./datasets";
 import { db } from "./db";
 import { conflict, forbidden, gone, notFound, unauthenticated } from "./errors";
 import { renderViewPng } from "./link-preview";
@@ -187,7 +187,8 @@ export async function resolveLink(token: string, viewer: SessionUser | null, opt
   const status = statusOf(link);
   if (status === "revoked") throw gone("This link was revoked by the lab that made it.");
   if (status === "expired") throw gone("This link has expired.");
-  const dataset = await db().Dataset.findOne({ where: { id: link.datasetId, deletedAt: { [Op.is]: null } } });
+  // With the detector profile, so a guest's readout shows photoelectrons as a member's does.
+  const dataset = await db().Dataset.findOne({ where: { id: link.datasetId, deletedAt: { [Op.is]: null } }, include: datasetIncludes() });
   if (!dataset) throw gone("The dataset behind this link is no longer available.");
   const membership = viewer ? await db().Membership.findOne({ where: { labId: dataset.labId, userId: viewer.id } }) : null;
   const role = membership?.role ?? null;

@@ -115,6 +115,18 @@ describe("opening a link", () => {
     expect(member.body.viewer).toMatchObject({ role: "viewer", canSaveAsMine: true });
   });
 
+  it("carries the dataset's detector profile, so a guest's readout can show photoelectrons", async () => {
+    const made = await lab.editor.post(`/api/labs/${lab.labId}/detector-profiles`, { name: `Link cam ${randomUUID().slice(0, 6)}`, bitDepth: 12, offsetDn: 100, gain: { value: 0.5, unit: "dn_per_e" }, readNoiseE: 1.5, saturationCapacityE: 7990 });
+    expect(made.status, JSON.stringify(made.body)).toBe(201);
+    expect((await lab.editor.patch(`/api/datasets/${datasetId}`, { detectorProfileId: made.body.profile.id })).status).toBe(200);
+    try {
+      const { token } = await makeLink(lab.editor, { access: "anyone" });
+      expect((await open(anonymous(), token)).body.dataset.detector).toMatchObject({ offsetDn: 100, gainDnPerE: 0.5 });
+    } finally {
+      await lab.editor.patch(`/api/datasets/${datasetId}`, { detectorProfileId: null });
+    }
+  });
+
   it("lab links need a signed-in member: 401 anonymous, 403 another lab's member", async () => {
     const { token } = await makeLink(lab.editor, { access: "lab" });
     expectError(await open(anonymous(), token), 401, "unauthenticated");
