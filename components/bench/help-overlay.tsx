@@ -3,6 +3,7 @@
 const keys: [string, string][] = [
   ["← →", "previous / next time point"],
   ["↑ ↓", "next / previous z-slice"],
+  ["← → ↑ ↓ (region selected)", "move the region 1 px (Shift: 10); Escape lets go"],
   ["Space", "play / pause"],
   ["+ −", "zoom in / out"],
   ["0", "fit the image to the view"],

@@ -1,7 +1,7 @@
 "use client";
 
 import { useCallback, useEffect, useMemo, useRef, useState } from "react";
-import type { RegionShape } from "@/lib/imaging/regions";
+import { dragHandle, handlesOf, snapToCentre, snapToEdge, type HandleId, type RegionShape } from "@/lib/imaging/regions";
 import { geometryOfShape, moveShape, shapeOf, useRegionMutations, useRegions } from "@/lib/client/regions";
 import type { RegionOut } from "@/lib/schemas/region";
 import type { ImagePoint } from "./viewport";
@@ -17,10 +17,14 @@ export interface ViewTransform {
 
 const kindLabel: Record<RegionOut["kind"], string> = { rect: "Rectangle", ellipse: "Ellipse", polygon: "Polygon", line: "Line" };
 
+/** How long the arrow keys wait after the last nudge before saving the region. */
+const NUDGE_SAVE_MS = 500;
+
 /**
- * Regions state shared by the overlay (drawing, moving) and the panel (list, statistics, traces).
- * Drawing snaps rectangle, ellipse and polygon corners to pixel edges (whole numbers), so the pixels a
- * region holds are the ones its outline encloses; line ends snap to pixel centres (n + 0.5).
+ * Regions state shared by the overlay (drawing, moving, reshaping) and the panel (list, statistics,
+ * traces). Drawing snaps rectangle, ellipse and polygon corners to pixel edges (whole numbers), so the
+ * pixels a region holds are the ones its outline encloses; line ends snap to pixel centres (n + 0.5).
+ * Handles snap the same way (lib/imaging/regions.ts dragHandle).
  */
 export function useRegionsController(datasetId: number, options: { enabled: boolean; canEdit: boolean }) {
   const list = useRegions(datasetId, options.enabled);
@@ -59,7 +63,9 @@ export function useRegionsController(datasetId: number, options: { enabled: bool
       } catch (e) {
         setError(e instanceof Error ? e.message : String(e));
       } finally {
-        setMoving(null);
+        // Clear the moving shape only if it is still the one saved: arrow-key nudges made while the
+        // save was on its way stay on screen and are saved next.
+        setMoving((m) => (m && m.id === region.id && (!changes.shape || JSON.stringify(m.shape) === JSON.stringify(changes.shape)) ? null : m));
       }
     },
     [update],
@@ -78,15 +84,67 @@ export function useRegionsController(datasetId: number, options: { enabled: bool
     [remove],
   );
 
-  // Escape cancels a drawing in progress (and leaves the tool); Delete removes the selected region.
+  // Arrow keys nudge the selected region by one image pixel (Shift: 10) for editors; the region is
+  // saved once the keys have rested for NUDGE_SAVE_MS. The listener runs in the capture phase so that
+  // the bench's own arrow keys (t and z) do not also act while a region is selected; Escape deselects.
+  const latest = useRef({ regions, selectedId, moving, tool, canEdit: options.canEdit, busy: update.isPending, save });
+  useEffect(() => {
+    latest.current = { regions, selectedId, moving, tool, canEdit: options.canEdit, busy: update.isPending, save };
+  });
+  useEffect(() => {
+    if (!options.enabled) return;
+    let timer: ReturnType<typeof setTimeout> | null = null;
+    const saveNudge = () => {
+      const l = latest.current;
+      // A save on its way: wait for the region's new version, then save the nudged shape.
+      if (l.busy) {
+        timer = setTimeout(saveNudge, 100);
+        return;
+      }
+      timer = null;
+      const region = l.regions.find((r) => r.id === l.moving?.id);
+      if (region && l.moving && JSON.stringify(l.moving.shape) !== JSON.stringify(shapeOf(region))) void l.save(region, { shape: l.moving.shape });
+      else setMoving(null);
+    };
+    const steps: Record<string, [number, number]> = { ArrowLeft: [-1, 0], ArrowRight: [1, 0], ArrowUp: [0, -1], ArrowDown: [0, 1] };
+    const onKey = (e: KeyboardEvent) => {
+      const l = latest.current;
+      const step = steps[e.key];
+      if (!step || l.selectedId === null || !l.canEdit || l.tool !== "select" || e.altKey || e.ctrlKey || e.metaKey) return;
+      const target = e.target as HTMLElement | null;
+      if (target && (target.tagName === "INPUT" || target.tagName === "SELECT" || target.tagName === "TEXTAREA" || target.isContentEditable || target.closest("dialog"))) return;
+      const region = l.regions.find((r) => r.id === l.selectedId);
+      if (!region) return;
+      e.preventDefault();
+      e.stopPropagation();
+      const n = e.shiftKey ? 10 : 1;
+      const base = l.moving?.id === region.id ? l.moving.shape : shapeOf(region);
+      const shape = moveShape(base, step[0] * n, step[1] * n);
+      latest.current = { ...l, moving: { id: region.id, shape } };
+      setMoving({ id: region.id, shape });
+      if (timer) clearTimeout(timer);
+      timer = setTimeout(saveNudge, NUDGE_SAVE_MS);
+    };
+    window.addEventListener("keydown", onKey, { capture: true });
+    return () => {
+      window.removeEventListener("keydown", onKey, { capture: true });
+      if (timer) clearTimeout(timer);
+    };
+  }, [options.enabled]);
+
+  // Escape cancels a drawing in progress (and leaves the tool), or else lets go of the selected
+  // region; Delete removes the selected region.
   useEffect(() => {
     if (!options.enabled) return;
     const onKey = (e: KeyboardEvent) => {
       const target = e.target as HTMLElement | null;
-      if (target && (target.tagName === "INPUT" || target.tagName === "SELECT" || target.tagName === "TEXTAREA")) return;
+      // Keys pressed in a field or inside an open dialog belong to them, not to the regions.
+      if (target && (target.tagName === "INPUT" || target.tagName === "SELECT" || target.tagName === "TEXTAREA" || target.closest('dialog, [role="dialog"]'))) return;
       if (e.key === "Escape" && (draft || tool !== "select")) {
         setDraft(null);
         setTool("select");
+      } else if (e.key === "Escape" && selectedId !== null) {
+        setSelectedId(null);
       } else if ((e.key === "Delete" || e.key === "Backspace") && selectedId !== null && options.canEdit) {
         e.preventDefault();
         void removeRegion(selectedId);
@@ -184,6 +242,44 @@ function ShapeOutline({ shape, view, colour, selected, label, interactive, onPoi
   );
 }
 
+/** Handle side, screen pixels: the same at every zoom, since the overlay draws in screen space. */
+const HANDLE_PX = 9;
+
+const cornerCursor = { nw: "nwse-resize", se: "nwse-resize", ne: "nesw-resize", sw: "nesw-resize" } as const;
+const cornerName = { nw: "top-left", ne: "top-right", sw: "bottom-left", se: "bottom-right" } as const;
+
+/** Square grips on the selected region: bounding-box corners, polygon vertices or line ends. */
+function Handles({ shape, view, colour, onPointerDown }: { shape: RegionShape; view: ViewTransform; colour: string; onPointerDown: (e: React.PointerEvent, handle: HandleId) => void }) {
+  return (
+    <g data-testid="region-handles">
+      {handlesOf(shape).map((h) => {
+        const sx = h.x * view.scale + view.x;
+        const sy = h.y * view.scale + view.y;
+        const label = h.id.kind === "corner" ? `Resize from the ${cornerName[h.id.corner]} corner` : h.id.kind === "vertex" ? `Move corner ${h.id.index + 1}` : `Move end ${h.id.end}`;
+        return (
+          <g key={h.key}>
+            {/* A dark rim keeps the white square visible on bright pixels too. */}
+            <rect x={sx - HANDLE_PX / 2 - 1.5} y={sy - HANDLE_PX / 2 - 1.5} width={HANDLE_PX + 3} height={HANDLE_PX + 3} fill="#000000" opacity={0.6} style={{ pointerEvents: "none" }} />
+            <rect
+            data-handle={h.key}
+            aria-label={label}
+            x={sx - HANDLE_PX / 2}
+            y={sy - HANDLE_PX / 2}
+            width={HANDLE_PX}
+            height={HANDLE_PX}
+            fill="#ffffff"
+            stroke={colour}
+            strokeWidth={1.5}
+            style={{ pointerEvents: "all", cursor: h.id.kind === "corner" ? cornerCursor[h.id.corner] : "move" }}
+            onPointerDown={(e) => onPointerDown(e, h.id)}
+          />
+          </g>
+        );
+      })}
+    </g>
+  );
+}
+
 /**
  * The regions drawn over the image as SVG in screen space (the outline stays 1–2 px wide at every
  * zoom). With a drawing tool the overlay takes the pointer; otherwise only the outlines do, so
@@ -191,16 +287,17 @@ function ShapeOutline({ shape, view, colour, selected, label, interactive, onPoi
  */
 export function RegionOverlay({ ctl, view, width, height }: { ctl: RegionsController; view: ViewTransform; width: number; height: number }) {
   const svg = useRef<SVGSVGElement>(null);
-  const gesture = useRef<{ kind: "draw"; start: ImagePoint } | { kind: "move"; region: RegionOut; start: ImagePoint } | null>(null);
+  const gesture = useRef<{ kind: "draw"; start: ImagePoint } | { kind: "move"; region: RegionOut; start: ImagePoint } | { kind: "handle"; region: RegionOut; handle: HandleId } | null>(null);
   const drawing = ctl.tool !== "select";
+  const selectedRegion = ctl.regions.find((r) => r.id === ctl.selectedId) ?? null;
+  const selectedShape = selectedRegion ? { region: selectedRegion, shape: ctl.moving?.id === selectedRegion.id ? ctl.moving.shape : shapeOf(selectedRegion) } : null;
 
   const toImage = (e: { clientX: number; clientY: number }): ImagePoint => {
     const r = svg.current!.getBoundingClientRect();
     return { x: (e.clientX - r.left - view.x) / view.scale, y: (e.clientY - r.top - view.y) / view.scale };
   };
-  const clampEdge = (v: number, max: number) => Math.min(max, Math.max(0, Math.round(v)));
-  const edge = (p: ImagePoint): ImagePoint => ({ x: clampEdge(p.x, width), y: clampEdge(p.y, height) });
-  const centre = (p: ImagePoint): ImagePoint => ({ x: Math.min(width - 1, Math.max(0, Math.floor(p.x))) + 0.5, y: Math.min(height - 1, Math.max(0, Math.floor(p.y))) + 0.5 });
+  const edge = (p: ImagePoint): ImagePoint => snapToEdge(p, width, height);
+  const centre = (p: ImagePoint): ImagePoint => snapToCentre(p, width, height);
 
   const shapeFromDrag = (a: ImagePoint, b: ImagePoint): RegionShape | null => {
     if (ctl.tool === "line") {
@@ -269,6 +366,7 @@ export function RegionOverlay({ ctl, view, width, height }: { ctl: RegionsContro
         if (!g) return;
         const p = toImage(e);
         if (g.kind === "draw") ctl.setDraft(shapeFromDrag(g.start, p));
+        else if (g.kind === "handle") ctl.setMoving({ id: g.region.id, shape: dragHandle(shapeOf(g.region), g.handle, p, width, height) });
         else {
           const dx = Math.round(p.x - g.start.x);
           const dy = Math.round(p.y - g.start.y);
@@ -285,6 +383,7 @@ export function RegionOverlay({ ctl, view, width, height }: { ctl: RegionsContro
           ctl.setDraft(null);
           if (usable(shape)) void ctl.add(shape);
         } else if (ctl.moving && ctl.moving.id === g.region.id) {
+          // A move or a handle drag: save the new geometry (with the version it was based on).
           const m = ctl.moving;
           const original = shapeOf(g.region);
           if (JSON.stringify(m.shape) !== JSON.stringify(original)) void ctl.save(g.region, { shape: m.shape });
@@ -321,6 +420,20 @@ export function RegionOverlay({ ctl, view, width, height }: { ctl: RegionsContro
           />
         );
       })}
+      {ctl.canEdit && !drawing && selectedShape && (
+        <Handles
+          shape={selectedShape.shape}
+          view={view}
+          colour={selectedShape.region.colour}
+          onPointerDown={(e, handle) => {
+            if (e.button !== 0) return;
+            // Keep the viewport from panning and the outline from starting a move.
+            e.stopPropagation();
+            gesture.current = { kind: "handle", region: selectedShape.region, handle };
+            (e.currentTarget as Element).setPointerCapture?.(e.pointerId);
+          }}
+        />
+      )}
       {ctl.draft && <ShapeOutline shape={ctl.draft} view={view} colour="#ffffff" selected={false} interactive={false} />}
     </svg>
   );

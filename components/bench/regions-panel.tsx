@@ -223,6 +223,11 @@ export function RegionsPanel({
           {ctl.tool === "polygon" ? "Click the corners; double-click, Enter or a click on the first corner closes it." : "Drag on the image."} Escape cancels.
         </p>
       )}
+      {ctl.tool === "select" && ctl.selected && ctl.canEdit && (
+        <p className="text-[11px] text-graphite-300" aria-label="Editing the selected region">
+          {ctl.selected.kind === "polygon" ? "Drag a corner handle to move that corner" : ctl.selected.kind === "line" ? "Drag an end handle to move that end" : "Drag a corner handle to resize (the opposite corner stays)"}; arrow keys move it by 1 px (Shift: 10); Escape lets go, so the arrow keys step through t and z again.
+        </p>
+      )}
       {ctl.error && (
         <p role="alert" className="text-[11px] text-fault-300">
           {ctl.error}

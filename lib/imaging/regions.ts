@@ -252,3 +252,106 @@ export function traceInElectrons(p: TracePoint, count: number, d: DetectorScale)
   if (p.background === null) return { ...p, mean: (p.mean - d.offsetDn) / k, sum: (p.sum - count * d.offsetDn) / k };
   return { ...p, mean: p.mean / k, sum: p.sum / k, background: (p.background - d.offsetDn) / k };
 }
+
+// ---- Editing shapes by handles -------------------------------------------------------------------
+//
+// Snapping follows drawing: rectangle, ellipse and polygon corners sit on pixel edges (whole numbers,
+// 0 … width or height), so the pixels a region holds are the ones its outline encloses; line ends sit
+// on pixel centres (n + 0.5, inside the image), so a profile reads whole pixels.
+
+export interface Point {
+  x: number;
+  y: number;
+}
+
+/** The nearest pixel edge, clamped to the image (what rectangle, ellipse and polygon corners use). */
+export function snapToEdge(p: Point, width: number, height: number): Point {
+  const snap = (v: number, max: number) => Math.min(max, Math.max(0, Math.round(v)));
+  return { x: snap(p.x, width), y: snap(p.y, height) };
+}
+
+/** The centre of the pixel under the point, clamped to the image (what line ends use). */
+export function snapToCentre(p: Point, width: number, height: number): Point {
+  const snap = (v: number, max: number) => Math.min(max - 1, Math.max(0, Math.floor(v))) + 0.5;
+  return { x: snap(p.x, width), y: snap(p.y, height) };
+}
+
+/** A corner of a bounding box: north-west is the top left (y grows downwards). */
+export type Corner = "nw" | "ne" | "sw" | "se";
+
+/** One grip of a shape: a bounding-box corner, a polygon vertex or a line end. */
+export type HandleId = { kind: "corner"; corner: Corner } | { kind: "vertex"; index: number } | { kind: "end"; end: 1 | 2 };
+
+export interface Handle {
+  id: HandleId;
+  /** A short stable name ("se", "v2", "end1"), e.g. for test ids. */
+  key: string;
+  /** Where the handle sits, image pixels. */
+  x: number;
+  y: number;
+}
+
+function boxOf(shape: RectShape | EllipseShape): { x0: number; y0: number; x1: number; y1: number } {
+  return shape.kind === "rect"
+    ? { x0: shape.x, y0: shape.y, x1: shape.x + shape.width, y1: shape.y + shape.height }
+    : { x0: shape.cx - shape.rx, y0: shape.cy - shape.ry, x1: shape.cx + shape.rx, y1: shape.cy + shape.ry };
+}
+
+/** The handles of a shape: four bounding-box corners (rect, ellipse), every vertex, or both line ends. */
+export function handlesOf(shape: RegionShape): Handle[] {
+  switch (shape.kind) {
+    case "rect":
+    case "ellipse": {
+      const b = boxOf(shape);
+      const corners: [Corner, number, number][] = [["nw", b.x0, b.y0], ["ne", b.x1, b.y0], ["sw", b.x0, b.y1], ["se", b.x1, b.y1]];
+      return corners.map(([corner, x, y]) => ({ id: { kind: "corner", corner }, key: corner, x, y }));
+    }
+    case "polygon":
+      return shape.points.map(([x, y], index) => ({ id: { kind: "vertex", index }, key: `v${index}`, x, y }));
+    case "line":
+      return [
+        { id: { kind: "end", end: 1 }, key: "end1", x: shape.x1, y: shape.y1 },
+        { id: { kind: "end", end: 2 }, key: "end2", x: shape.x2, y: shape.y2 },
+      ];
+  }
+}
+
+/**
+ * Resizes a rectangle or an ellipse by one corner of its bounding box: that corner goes to `point`,
+ * the opposite corner stays where it is. The dragged corner cannot cross the fixed one: width and
+ * height stay at least `minSize` (1 pixel by default), so a region never collapses to no pixels and
+ * keeps its orientation (the handle under the pointer stays the same corner).
+ */
+export function resizeBox<S extends RectShape | EllipseShape>(shape: S, corner: Corner, point: Point, minSize = 1): S {
+  let { x0, y0, x1, y1 } = boxOf(shape);
+  if (corner === "nw" || corner === "sw") x0 = Math.min(point.x, x1 - minSize);
+  else x1 = Math.max(point.x, x0 + minSize);
+  if (corner === "nw" || corner === "ne") y0 = Math.min(point.y, y1 - minSize);
+  else y1 = Math.max(point.y, y0 + minSize);
+  if (shape.kind === "rect") return { ...shape, x: x0, y: y0, width: x1 - x0, height: y1 - y0 };
+  return { ...shape, cx: (x0 + x1) / 2, cy: (y0 + y1) / 2, rx: (x1 - x0) / 2, ry: (y1 - y0) / 2 };
+}
+
+/** Moves one vertex of a polygon (the others stay). An index outside the polygon changes nothing. */
+export function moveVertex(shape: PolygonShape, index: number, point: Point): PolygonShape {
+  if (index < 0 || index >= shape.points.length) return shape;
+  return { ...shape, points: shape.points.map((p, i) => (i === index ? [point.x, point.y] : [p[0], p[1]])) };
+}
+
+/** Moves one end of a line. A move onto the other end is refused (a line needs two ends): unchanged. */
+export function moveLineEnd(shape: LineShape, end: 1 | 2, point: Point): LineShape {
+  const other = end === 1 ? { x: shape.x2, y: shape.y2 } : { x: shape.x1, y: shape.y1 };
+  if (other.x === point.x && other.y === point.y) return shape;
+  return end === 1 ? { ...shape, x1: point.x, y1: point.y } : { ...shape, x2: point.x, y2: point.y };
+}
+
+/**
+ * The shape after dragging one of its handles to `point` (image pixels, unsnapped): the point is
+ * snapped as drawing snaps (see above) to an image of `width` × `height`, then applied.
+ */
+export function dragHandle(shape: RegionShape, id: HandleId, point: Point, width: number, height: number): RegionShape {
+  if (shape.kind === "line") return id.kind === "end" ? moveLineEnd(shape, id.end, snapToCentre(point, width, height)) : shape;
+  const p = snapToEdge(point, width, height);
+  if (shape.kind === "polygon") return id.kind === "vertex" ? moveVertex(shape, id.index, p) : shape;
+  return id.kind === "corner" ? resizeBox(shape, id.corner, p) : shape;
+}

@@ -1,6 +1,7 @@
 // Regions on the bench in Chromium: an editor draws a rectangle on the seeded 12-bit stack, sees
 // statistics equal to numpy's on the same pixels (tests/fixtures/regions_ref.py, pixel-centre rule),
-// sees saturated pixels flagged, runs a trace over t with the progress bar and exports it as CSV.
+// sees saturated pixels flagged, runs a trace over t with the progress bar and exports it as CSV;
+// then reshapes a rectangle by its corner handle and moves it with the arrow keys.
 import { readFileSync, writeFileSync } from "node:fs";
 import { spawnSync } from "node:child_process";
 import { resolve } from "node:path";
@@ -48,13 +49,13 @@ const planeIndex = (c: number, z: number, t: number) => z + 3 * (c + 2 * t);
 const RECT = { kind: "rect", x: 2, y: 1, width: 10, height: 8 };
 
 interface NumpyRegion { count: number; mean: number; sd: number; min: number; max: number; sum: number; atCeiling: number }
-function numpy(plane: number): NumpyRegion {
+function numpy(plane: number, shape: object = RECT): NumpyRegion {
   const path = tmp.path("planes.u16le");
   const all = new Uint16Array(fixture.planes.length * fixture.width * fixture.height);
   fixture.planes.forEach((p, i) => all.set(p, i * p.length));
   writeFileSync(path, Buffer.from(all.buffer));
   const r = spawnSync(PYTHON, [resolve(import.meta.dirname, "..", "fixtures", "regions_ref.py")], {
-    input: JSON.stringify({ width: fixture.width, height: fixture.height, ceiling: 4095, planes: path, plane, shapes: [RECT] }),
+    input: JSON.stringify({ width: fixture.width, height: fixture.height, ceiling: 4095, planes: path, plane, shapes: [shape] }),
     encoding: "utf8",
   });
   if (r.status !== 0) throw new Error(r.stderr);
@@ -157,5 +158,69 @@ describe("regions on the bench", () => {
     await page.keyboard.press("Delete");
     await panel.getByText("No regions yet").waitFor();
     expect((await lab.editor.get(`/api/datasets/${datasetId}/regions`)).body.regions).toEqual([]);
+  });
+
+  it("resizes a rectangle by its bottom-right handle, saves it, and nudges it with the arrow keys", async () => {
+    const page = person.page;
+    const created = await lab.editor.post(`/api/datasets/${datasetId}/regions`, { name: "Box", kind: "rect", geometry: { x: 2, y: 1, width: 10, height: 8 } });
+    expect(created.status).toBe(201);
+    await page.reload();
+    await page.getByText(/first plane drawn in \d+ ms/).waitFor({ timeout: 30_000 });
+    const panel = page.getByRole("region", { name: "Regions" });
+    await page.locator("[aria-label^='Bench:']").focus();
+    for (const key of ["1", "+", "+", "+"]) await page.keyboard.press(key);
+    const canvas = page.getByLabel("Image plane");
+    await expect.poll(() => canvas.getAttribute("data-scale")).toBe("8.000");
+    await expect(panel.getByLabel("Area of Box").textContent()).resolves.toContain("area 80 px");
+
+    // No handles until the region is selected.
+    expect(await page.locator("[data-handle]").count()).toBe(0);
+    await panel.getByRole("listitem", { name: "Region Box" }).getByRole("button", { name: "Select" }).click();
+    await expect.poll(() => page.locator("[data-handle]").count()).toBe(4);
+    const handle = page.locator('[data-handle="se"]');
+    // A constant size on screen whatever the zoom (9 px plus its 1.5 px stroke): halving the zoom
+    // halves the rectangle but not its handles.
+    const widthAt8 = (await handle.boundingBox())!.width;
+    expect(widthAt8).toBeGreaterThanOrEqual(9);
+    expect(widthAt8).toBeLessThan(12);
+    await page.keyboard.press("-");
+    await expect.poll(() => canvas.getAttribute("data-scale")).toBe("4.000");
+    expect((await handle.boundingBox())!.width).toBeCloseTo(widthAt8, 1);
+    await page.keyboard.press("+");
+    await expect.poll(() => canvas.getAttribute("data-scale")).toBe("8.000");
+    const hb = (await handle.boundingBox())!;
+    await canvas.scrollIntoViewIfNeeded();
+    const box = (await canvas.boundingBox())!;
+    const scale = box.width / fixture.width;
+    // The handle sits on the bottom-right corner (12, 9); drag it to 0.3 px off the edge (20, 15).
+    await page.mouse.move(hb.x + hb.width / 2, hb.y + hb.height / 2);
+    await page.mouse.down();
+    await page.mouse.move(box.x + 16 * scale, box.y + 12 * scale, { steps: 3 });
+    await page.mouse.move(box.x + 20.3 * scale, box.y + 14.7 * scale, { steps: 3 });
+    await screenshot(page, "regions-04-handles");
+    await page.mouse.up();
+
+    // The top-left corner stays: 18 × 14 = 252 pixels (whole-pixel rectangle).
+    const resized = { x: 2, y: 1, width: 18, height: 14 };
+    await expect.poll(async () => (await lab.editor.get(`/api/datasets/${datasetId}/regions`)).body.regions.find((r: { name: string }) => r.name === "Box")?.geometry).toEqual(resized);
+    const area = panel.getByLabel("Area of Box");
+    await expect.poll(() => area.textContent()).toContain("area 252 px");
+    const ref = numpy(planeIndex(0, 0, 0), { kind: "rect", ...resized });
+    expect(ref.count).toBe(252);
+    const sum = panel.getByRole("table", { name: "Statistics of Box" }).locator('tr[data-channel="nuclei"] [data-stat="sum"]');
+    await expect.poll(async () => Number(await sum.textContent())).toBe(ref.sum);
+
+    // Arrow keys move the selected region (1 px, Shift: 10) instead of stepping t and z; saved after a pause.
+    await page.locator("[aria-label^='Bench:']").focus();
+    await page.keyboard.press("ArrowRight");
+    await page.keyboard.press("Shift+ArrowDown");
+    await expect.poll(async () => (await lab.editor.get(`/api/datasets/${datasetId}/regions`)).body.regions.find((r: { name: string }) => r.name === "Box")?.geometry).toEqual({ ...resized, x: 3, y: 11 });
+    expect(await area.textContent()).toContain("area 252 px");
+    // The statistics are numpy's for the moved rectangle on the SAME plane (t 0, z 0): the arrows did
+    // not also step t or z.
+    const moved = numpy(planeIndex(1, 0, 0), { kind: "rect", ...resized, x: 3, y: 11 });
+    const membraneSum = panel.getByRole("table", { name: "Statistics of Box" }).locator('tr[data-channel="membrane"] [data-stat="sum"]');
+    await expect.poll(async () => Number(await membraneSum.textContent())).toBe(moved.sum);
+    await screenshot(page, "regions-05-nudged");
   });
 });

@@ -4,7 +4,7 @@
 import { spawnSync } from "node:child_process";
 import { resolve } from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { lineProfile, regionMask, regionStats, statsInElectrons, traceInElectrons, tracePoint, type AreaShape, type LineShape } from "@/lib/imaging/regions";
+import { dragHandle, handlesOf, lineProfile, moveLineEnd, moveVertex, regionMask, regionStats, resizeBox, snapToCentre, snapToEdge, statsInElectrons, traceInElectrons, tracePoint, type AreaShape, type LineShape } from "@/lib/imaging/regions";
 import { PYTHON, tempDir } from "@/tests/helpers/tiff-tools";
 import { loadStackFixture, type StackFixture } from "./stack-fixture";
 import { writeFileSync } from "node:fs";
@@ -178,5 +178,72 @@ describe("against numpy on the seeded 12-bit stack", () => {
     // make_tiffs.py sets data[0, 1, 0, :3, :7] = 4095: 21 pixels.
     const mask = regionMask({ kind: "rect", x: 0, y: 0, width: 7, height: 3 }, fx.width, fx.height);
     expect(regionStats(fx.planes[3], mask, { ceiling: 4095 }).countAtCeiling).toBe(21);
+  });
+});
+
+// Editing by handles. The snapping rules are the drawing rules (corners on pixel edges, line ends on
+// pixel centres); the expected numbers below are worked by hand.
+describe("editing shapes by handles", () => {
+  const rect = { kind: "rect", x: 2, y: 1, width: 10, height: 8 } as const;
+
+  it("snaps corners to the nearest pixel edge and line ends to the pixel centre, inside the image", () => {
+    expect(snapToEdge({ x: 3.4, y: 3.6 }, 10, 8)).toEqual({ x: 3, y: 4 });
+    expect(snapToEdge({ x: -2, y: 99 }, 10, 8)).toEqual({ x: 0, y: 8 });
+    expect(snapToCentre({ x: 3.9, y: 0.1 }, 10, 8)).toEqual({ x: 3.5, y: 0.5 });
+    expect(snapToCentre({ x: 10, y: -1 }, 10, 8)).toEqual({ x: 9.5, y: 0.5 });
+  });
+
+  it("lists four corner handles for rectangles and ellipses, one per vertex, and two line ends", () => {
+    expect(handlesOf(rect).map((h) => [h.key, h.x, h.y])).toEqual([["nw", 2, 1], ["ne", 12, 1], ["sw", 2, 9], ["se", 12, 9]]);
+    expect(handlesOf({ kind: "ellipse", cx: 5, cy: 4, rx: 3, ry: 2 }).map((h) => [h.key, h.x, h.y])).toEqual([["nw", 2, 2], ["ne", 8, 2], ["sw", 2, 6], ["se", 8, 6]]);
+    expect(handlesOf({ kind: "polygon", points: [[0, 0], [4, 0], [2, 3]] }).map((h) => h.key)).toEqual(["v0", "v1", "v2"]);
+    expect(handlesOf({ kind: "line", x1: 0.5, y1: 0.5, x2: 4.5, y2: 2.5 }).map((h) => [h.key, h.x, h.y])).toEqual([["end1", 0.5, 0.5], ["end2", 4.5, 2.5]]);
+  });
+
+  it("resizes a rectangle by any corner, keeping the opposite corner fixed", () => {
+    expect(resizeBox(rect, "se", { x: 15, y: 13 })).toEqual({ kind: "rect", x: 2, y: 1, width: 13, height: 12 });
+    expect(resizeBox(rect, "nw", { x: 0, y: 0 })).toEqual({ kind: "rect", x: 0, y: 0, width: 12, height: 9 });
+    expect(resizeBox(rect, "ne", { x: 5, y: 4 })).toEqual({ kind: "rect", x: 2, y: 4, width: 3, height: 5 });
+    expect(resizeBox(rect, "sw", { x: 10, y: 2 })).toEqual({ kind: "rect", x: 10, y: 1, width: 2, height: 1 });
+  });
+
+  it("never lets width or height fall below 1 pixel, even when the corner is dragged past the opposite one", () => {
+    expect(resizeBox(rect, "se", { x: -5, y: 0 })).toEqual({ kind: "rect", x: 2, y: 1, width: 1, height: 1 });
+    expect(resizeBox(rect, "nw", { x: 12, y: 30 })).toEqual({ kind: "rect", x: 11, y: 8, width: 1, height: 1 });
+    // The pixel mask of the smallest rectangle is exactly one pixel.
+    expect(regionMask(resizeBox(rect, "se", { x: 2, y: 1 }), 20, 20).length).toBe(1);
+  });
+
+  it("resizes an ellipse through its bounding box (centre and semi-axes follow)", () => {
+    const e = { kind: "ellipse", cx: 5, cy: 4, rx: 3, ry: 2 } as const;
+    // Box 2…8 × 2…6; dragging se to (10, 10) gives box 2…10 × 2…10.
+    expect(resizeBox(e, "se", { x: 10, y: 10 })).toEqual({ kind: "ellipse", cx: 6, cy: 6, rx: 4, ry: 4 });
+    expect(resizeBox(e, "nw", { x: 9, y: 9 })).toEqual({ kind: "ellipse", cx: 7.5, cy: 5.5, rx: 0.5, ry: 0.5 });
+  });
+
+  it("moves one polygon vertex and leaves the others (and the original) alone", () => {
+    const poly = { kind: "polygon", points: [[0, 0], [4, 0], [2, 3]] as [number, number][] } as const;
+    const moved = moveVertex(poly, 2, { x: 2, y: 6 });
+    expect(moved.points).toEqual([[0, 0], [4, 0], [2, 6]]);
+    expect(poly.points[2]).toEqual([2, 3]);
+    expect(moveVertex(poly, 7, { x: 1, y: 1 })).toBe(poly);
+    // Triangle (0,0) (4,0) (2,3) → (2,6): twice the area (½ · 4 · 3 = 6 → 12), so it holds more pixels.
+    expect(regionMask(moved, 10, 10).length).toBeGreaterThan(regionMask(poly, 10, 10).length);
+  });
+
+  it("moves a line end but refuses to put both ends on one point", () => {
+    const line = { kind: "line", x1: 0.5, y1: 0.5, x2: 4.5, y2: 2.5 } as const;
+    expect(moveLineEnd(line, 2, { x: 7.5, y: 0.5 })).toEqual({ kind: "line", x1: 0.5, y1: 0.5, x2: 7.5, y2: 0.5 });
+    expect(moveLineEnd(line, 1, { x: 4.5, y: 2.5 })).toBe(line);
+  });
+
+  it("dragHandle snaps as drawing does before applying the handle", () => {
+    expect(dragHandle(rect, { kind: "corner", corner: "se" }, { x: 15.3, y: 12.6 }, 32, 32)).toEqual({ kind: "rect", x: 2, y: 1, width: 13, height: 12 });
+    // Clamped to the image edge (32 px wide).
+    expect(dragHandle(rect, { kind: "corner", corner: "se" }, { x: 40, y: 9 }, 32, 32)).toEqual({ kind: "rect", x: 2, y: 1, width: 30, height: 8 });
+    expect(dragHandle({ kind: "line", x1: 0.5, y1: 0.5, x2: 4.5, y2: 2.5 }, { kind: "end", end: 1 }, { x: 2.2, y: 9.9 }, 32, 32)).toEqual({ kind: "line", x1: 2.5, y1: 9.5, x2: 4.5, y2: 2.5 });
+    expect(dragHandle({ kind: "polygon", points: [[0, 0], [4, 0], [2, 3]] }, { kind: "vertex", index: 0 }, { x: -3.7, y: 1.4 }, 32, 32)).toEqual({ kind: "polygon", points: [[0, 1], [4, 0], [2, 3]] });
+    // A handle of the wrong kind changes nothing.
+    expect(dragHandle(rect, { kind: "vertex", index: 0 }, { x: 5, y: 5 }, 32, 32)).toBe(rect);
   });
 });
