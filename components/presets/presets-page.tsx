@@ -11,13 +11,14 @@ import { can, type Role } from "@/lib/permissions";
 import type { PresetOut } from "@/lib/schemas/preset";
 import { ApplyMenu } from "./apply-menu";
 import { ImportPanel } from "./import-panel";
+import { NewPresetPanel } from "./new-preset-panel";
 import { RenamePanel } from "./rename-panel";
 
 /** Styles of a secondary Button, for download links (an <a download> is the honest element for a file). */
 const linkButton =
   "inline-flex items-center justify-center gap-2 rounded border border-paper-300 bg-white px-3 py-1.5 text-sm font-medium text-paper-900 transition-colors hover:bg-paper-100";
 
-type Panel = { kind: "import" } | { kind: "rename"; preset: PresetOut } | null;
+type Panel = { kind: "new" } | { kind: "import" } | { kind: "rename"; preset: PresetOut } | null;
 
 function outcomeNote({ imported, renamed }: ImportOutcome, scope: "private" | "lab"): string {
   const where = scope === "lab" ? "the lab's presets" : "your presets";
@@ -135,6 +136,7 @@ export function PresetsPage({ labId, role, userId }: { labId: number; role: Role
 
   const importButton = (
     <Button
+      variant="secondary"
       onClick={() => {
         setNote(null);
         setPanel({ kind: "import" });
@@ -144,11 +146,22 @@ export function PresetsPage({ labId, role, userId }: { labId: number; role: Role
     </Button>
   );
 
+  const newButton = (
+    <Button
+      onClick={() => {
+        setNote(null);
+        setPanel({ kind: "new" });
+      }}
+    >
+      New preset…
+    </Button>
+  );
+
   return (
     <>
       <PageHeader
         title="Presets"
-        description="Named sets of channel mappings. Save one from the bench (Preset menu), apply it to any dataset there; lab presets are shared with every member. Export them as a file to move them between labs."
+        description="Named sets of channel mappings. Save one from the bench (Preset menu) or make one with New preset, apply it to any dataset there; lab presets are shared with every member. Export them as a file to move them between labs."
         action={
           <span className="flex gap-2">
             {all.length > 0 && (
@@ -157,10 +170,22 @@ export function PresetsPage({ labId, role, userId }: { labId: number; role: Role
               </a>
             )}
             {importButton}
+            {newButton}
           </span>
         }
       />
       <div className="space-y-4">
+        {panel?.kind === "new" && (
+          <NewPresetPanel
+            labId={labId}
+            mayShare={mayShare}
+            onCancel={() => setPanel(null)}
+            onDone={(preset) => {
+              setPanel(null);
+              setNote(`Created “${preset.name}” in ${preset.scope === "lab" ? "the lab's presets" : "your presets"}.`);
+            }}
+          />
+        )}
         {panel?.kind === "import" && (
           <ImportPanel
             labId={labId}
@@ -206,8 +231,8 @@ export function PresetsPage({ labId, role, userId }: { labId: number; role: Role
         ) : presets.isError ? (
           <ErrorState error={presets.error} retry={() => presets.refetch()} />
         ) : presets.data.length === 0 ? (
-          <EmptyState title="No presets yet" action={panel?.kind === "import" ? undefined : importButton}>
-            Open a dataset on the bench, set up its channels, and choose Preset ▸ Save current as preset — or import a presets file.
+          <EmptyState title="No presets yet" action={panel ? undefined : <span className="flex gap-2">{importButton}{newButton}</span>}>
+            Open a dataset on the bench, set up its channels, and choose Preset ▸ Save current as preset — or make one here with New preset, or import a presets file.
           </EmptyState>
         ) : (
           <DataTable data={presets.data} columns={columns} caption="Presets" />

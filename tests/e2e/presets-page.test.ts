@@ -223,3 +223,79 @@ describe("applying a preset from the Presets page", () => {
     }
   });
 });
+
+describe("making a preset from scratch on the Presets page", () => {
+  it("creates a two-channel lab preset from the form exactly as typed, and refuses a bad range and a taken name", async () => {
+    const page = editor.page;
+    await page.goto(presetsPage());
+    await page.getByRole("button", { name: "New preset…" }).click();
+    const panel = page.getByRole("region", { name: "New preset" });
+    await panel.waitFor();
+    // The keyboard starts in the name field, like the rename form.
+    await expect.poll(() => page.evaluate(() => document.activeElement?.id)).toBe(await panel.getByLabel("Name", { exact: true }).getAttribute("id"));
+    const before = await labCount();
+
+    await panel.getByLabel("Name", { exact: true }).fill("already HERE");
+    await panel.getByLabel("Shared with").selectOption("lab");
+    await panel.getByLabel("Blend").selectOption("max");
+    const first = panel.getByRole("group", { name: "Channel 1" });
+    await first.getByLabel("Match name").fill("nuclei");
+    await first.getByLabel("Colour", { exact: true }).fill("#56b4e9");
+    await first.getByLabel("Colour table").selectOption({ label: "Viridis (blue–green–yellow)" });
+    await first.getByLabel("Gamma").fill("0.8");
+    await first.getByText("Non-linear display mapping").waitFor();
+    await first.getByLabel("Range").selectOption("counts");
+    // Black at or above white: a bad entry.
+    await first.getByLabel("Black point").fill("2800");
+    await first.getByLabel("White point").fill("2800");
+
+    await panel.getByRole("button", { name: "Add channel" }).click();
+    const second = panel.getByRole("group", { name: "Channel 2" });
+    expect(await second.getByLabel("Index").inputValue()).toBe("1");
+    expect(await second.getByLabel("Low percentile").inputValue()).toBe("0.1");
+    expect(await second.getByLabel("High percentile").inputValue()).toBe("99.9");
+    await second.getByLabel("Visible").uncheck();
+    await second.getByLabel("Colour", { exact: true }).fill("#cc79a7");
+    await second.getByLabel("Low percentile").fill("0.5");
+    await second.getByLabel("High percentile").fill("99.5");
+    await screenshot(page, "presets-09-new-preset-form");
+
+    // The form checks with the route's schema: the message sits on the white point, nothing is sent.
+    let posts = 0;
+    page.on("request", (r) => {
+      if (r.method() === "POST" && r.url().endsWith(`/api/labs/${lab.labId}/presets`)) posts++;
+    });
+    await panel.getByRole("button", { name: "Create preset" }).click();
+    await first.getByText("The black point must be below the white point.").waitFor();
+    expect(await first.getByLabel("White point").getAttribute("aria-invalid")).toBe("true");
+    await expect.poll(() => page.evaluate(() => (document.activeElement as HTMLInputElement | null)?.value)).toBe("2800");
+    await screenshot(page, "presets-10-new-preset-bad-range");
+    expect(posts).toBe(0);
+    expect(await labCount()).toBe(before);
+
+    // A name already used by a lab preset comes back from the server as a field message on the name.
+    await first.getByLabel("Black point").fill("150");
+    await panel.getByRole("button", { name: "Create preset" }).click();
+    await panel.getByText("That name is already taken.").waitFor();
+    expect(await panel.getByLabel("Name", { exact: true }).getAttribute("aria-invalid")).toBe("true");
+    expect(posts).toBe(1);
+    expect(await labCount()).toBe(before);
+
+    await panel.getByLabel("Name", { exact: true }).fill("Typed by hand");
+    await panel.getByRole("button", { name: "Create preset" }).click();
+    await page.getByRole("status").filter({ hasText: "Created “Typed by hand” in the lab's presets." }).waitFor();
+    await panel.waitFor({ state: "detached" });
+    await page.getByRole("cell", { name: "Typed by hand", exact: true }).waitFor();
+    expect(await labCount()).toBe(before + 1);
+
+    const listed = (await lab.owner.get(`/api/labs/${lab.labId}/presets`)).body.presets as { name: string; channels: unknown[] }[];
+    const made = listed.find((p) => p.name === "Typed by hand");
+    expect(made).toMatchObject({ name: "Typed by hand", scope: "lab", blend: "max", version: 1 });
+    // Exactly what was typed, nothing added (no clip marks, no emission wavelength).
+    expect(made!.channels).toEqual([
+      { match: { name: "nuclei", index: 0 }, visible: true, colour: "#56b4e9", tableId: "viridis", gamma: 0.8, range: { mode: "counts", black: 150, white: 2800 } },
+      { match: { index: 1 }, visible: false, colour: "#cc79a7", tableId: null, gamma: 1, range: { mode: "percentiles", low: 0.5, high: 99.5 } },
+    ]);
+    await screenshot(page, "presets-11-new-preset-created");
+  });
+});
