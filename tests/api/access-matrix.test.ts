@@ -11,7 +11,11 @@ import { addMember, anonymous, Client, invite, labWithMembers, newUser, resetTok
 import { putPart, sha256, startUpload, uploadFile, waitForIngest } from "../helpers/uploads";
 import { photonTransferTiff } from "../helpers/photon-transfer";
 
-const actors = ["anonymous", "viewer", "editor", "owner", "outsider"] as const;
+// The five actors of each row, and two more: a guest holding a working view link ("anyone" may
+// open it) and a guest holding a revoked one. Guests have no session, so outside /api/v/[token]
+// they are answered exactly as anonymous callers (guestStatuses below); a link opens its own
+// snapshot and nothing else.
+const actors = ["anonymous", "viewer", "editor", "owner", "outsider", "link guest", "revoked-link guest"] as const;
 type Actor = (typeof actors)[number];
 
 interface Ctx {
@@ -28,6 +32,9 @@ interface Ctx {
 /** `raw` sends bytes instead of JSON (upload parts). */
 type Target = (ctx: Ctx) => Promise<{ path: string; body?: unknown; raw?: Uint8Array }>;
 type Statuses = [anonymous: number, viewer: number, editor: number, owner: number, outsider: number];
+
+/** Link guests: 200 through a working link and 410 through a revoked one on the link routes; elsewhere as anonymous. */
+const guestStatuses = (route: string, statuses: Statuses): [number, number] => (route.startsWith("/api/v/[token]") ? [200, 410] : [statuses[0], statuses[0]]);
 
 const L = (ctx: Ctx) => `/api/labs/${ctx.lab.labId}`;
 const freshMember = async (ctx: Ctx) => (await addMember(ctx.lab.owner, ctx.lab.labId, "viewer", "target")).id;
@@ -96,10 +103,23 @@ const seriesDataset = (ctx: Ctx) =>
     return id;
   })());
 // A fresh lab-members view link made by the owner (with download allowed when asked for).
-const ownerLink = async (ctx: Ctx, allowDownload = false) => {
-  const reply = await ctx.lab.owner.post(`${D(ctx.datasetId)}/links`, { state: viewBody, access: "lab", allowDownload });
+const ownerLink = async (ctx: Ctx, allowDownload = false, access: "lab" | "anyone" = "lab") => {
+  const reply = await ctx.lab.owner.post(`${D(ctx.datasetId)}/links`, { state: viewBody, access, allowDownload });
   if (reply.status !== 201) throw new Error(`link: ${reply.status} ${JSON.stringify(reply.body)}`);
   return { id: reply.body.link.id as number, token: reply.body.token as string };
+};
+/**
+ * The token each actor holds for the link routes: members and others a lab-members link; the link
+ * guest an "anyone" link; the revoked-link guest an "anyone" link the owner has revoked.
+ */
+const linkToken = async (ctx: Ctx) => {
+  if (ctx.who !== "link guest" && ctx.who !== "revoked-link guest") return (await ownerLink(ctx, true)).token;
+  const link = await ownerLink(ctx, true, "anyone");
+  if (ctx.who === "revoked-link guest") {
+    const revoked = await ctx.lab.owner.delete(`${D(ctx.datasetId)}/links/${link.id}`);
+    if (revoked.status !== 200) throw new Error(`revoke: ${revoked.status}`);
+  }
+  return link.token;
 };
 // Regions: a fresh rectangle drawn by the owner for each mutating cell.
 const ownerRegion = async (ctx: Ctx) => {
@@ -136,7 +156,7 @@ const table: [method: string, route: string, statuses: Statuses, target: Target]
   ["GET",    "/api/invitations/[token]",                            [200, 200, 200, 200, 200], async (c) => ({ path: `/api/invitations/${c.previewToken}` })],
   ["POST",   "/api/invitations/[token]/accept",                     [401, 200, 200, 200, 200],
     async (c) => {
-      const email = c.who === "anonymous" ? uniqueEmail("nobody") : c.client.email;
+      const email = c.client.email || uniqueEmail("nobody"); // callers without an account: any address
       const { token } = await invite(c.host.owner, c.host.labId, email, "viewer");
       return { path: `/api/invitations/${token}/accept`, body: {} };
     }],
@@ -244,11 +264,11 @@ const table: [method: string, route: string, statuses: Statuses, target: Target]
     async (c) => ({ path: `${D(c.datasetId)}/regions/${await ownerRegion(c)}` })],
   // Opening a lab-members link: the token is the credential, but only lab members get through; a
   // signed-in member of another lab is told the link is not for them (403), not that it is missing.
-  ["GET",    "/api/v/[token]",                                      [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}` })],
-  ["GET",    "/api/v/[token]/status",                               [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/status` })],
-  ["GET",    "/api/v/[token]/planes",                               [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/planes` })],
-  ["GET",    "/api/v/[token]/file",                                 [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/file` })],
-  ["GET",    "/api/v/[token]/preview",                              [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${(await ownerLink(c, true)).token}/preview` })],
+  ["GET",    "/api/v/[token]",                                      [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${await linkToken(c)}` })],
+  ["GET",    "/api/v/[token]/status",                               [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${await linkToken(c)}/status` })],
+  ["GET",    "/api/v/[token]/planes",                               [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${await linkToken(c)}/planes` })],
+  ["GET",    "/api/v/[token]/file",                                 [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${await linkToken(c)}/file` })],
+  ["GET",    "/api/v/[token]/preview",                              [401, 200, 200, 200, 403], async (c) => ({ path: `/api/v/${await linkToken(c)}/preview` })],
 ];
 
 /** Every "METHOD /api/…" that a route.ts under app/api exports, except next-auth's own handler. */
@@ -286,7 +306,7 @@ describe("access matrix", () => {
 
   beforeAll(async () => {
     lab = await labWithMembers();
-    Object.assign(clients, { anonymous: anonymous(), viewer: lab.viewer, editor: lab.editor, owner: lab.owner, outsider: lab.outsider });
+    Object.assign(clients, { anonymous: anonymous(), viewer: lab.viewer, editor: lab.editor, owner: lab.owner, outsider: lab.outsider, "link guest": anonymous(), "revoked-link guest": anonymous() });
     const hostOwner = await newUser("host");
     host = { owner: hostOwner, labId: (await hostOwner.post("/api/labs", { name: "Host lab" })).body.lab.id };
     previewToken = (await invite(lab.owner, lab.labId, uniqueEmail("preview"), "viewer")).token;
@@ -303,9 +323,10 @@ describe("access matrix", () => {
     expect(rows).toEqual(routeHandlers());
   });
 
-  const cells = table.flatMap(([method, route, statuses, target]) =>
-    actors.map((who, i) => ({ method, route, who, status: statuses[i], target })),
-  );
+  const cells = table.flatMap(([method, route, statuses, target]) => {
+    const all = [...statuses, ...guestStatuses(route, statuses)];
+    return actors.map((who, i) => ({ method, route, who, status: all[i], target }));
+  });
 
   it.each(cells)("$method $route as $who → $status", async ({ method, route, who, status, target }) => {
     const client = clients[who];
