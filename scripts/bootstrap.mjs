@@ -8,8 +8,8 @@ import { fileURLToPath } from "node:url";
 
 const root = join(dirname(fileURLToPath(import.meta.url)), "..");
 const command = process.argv[2];
-if (!["start", "test", "dev"].includes(command)) {
-  console.error("usage: node scripts/bootstrap.mjs start|test|dev");
+if (!["start", "test", "dev", "load"].includes(command)) {
+  console.error("usage: node scripts/bootstrap.mjs start|test|dev|load");
   process.exit(2);
 }
 

@@ -80,6 +80,9 @@ export function errorResponse(error: unknown): Response {
       { status: 503, headers: { "Retry-After": "2" } },
     );
   }
+  // The client went away mid-request (closed tab, aborted fetch): nobody reads an answer, and it is
+  // not a server fault worth a log line.
+  if ((error as NodeJS.ErrnoException | null)?.code === "ECONNRESET") return new Response(null, { status: 499 });
   // Unknown errors are logged on the server only; the client gets a generic message.
   console.error("[fluxframe] unexpected error:", error);
   return Response.json({ error: { code: "internal", message: "Something went wrong on our side." } }, { status: 500 });
