@@ -32,6 +32,12 @@ export function RenamePanel({ labId, preset, onDone, onCancel }: { labId: number
     (document.getElementById(inputId) as HTMLInputElement | null)?.select();
   }, [inputId]);
 
+  // After a refused (stale) save the person's next step is Reload: the keyboard goes there once the
+  // button is on screen (an effect after the render, not a timer that can run before it).
+  useEffect(() => {
+    if (stale?.kind === "stale") focus(reloadId);
+  }, [stale, reloadId]);
+
   const error = rename.error instanceof ApiError ? rename.error : rename.error ? new ApiError(0, "internal", rename.error.message) : null;
   const nameError = error?.status === 409 ? error.fields.name : error?.status === 400 ? error.fields.name : undefined;
   const otherError = error && !nameError && error.status !== 409 && error.status !== 404 ? error.message : null;
@@ -47,8 +53,6 @@ export function RenamePanel({ labId, preset, onDone, onCancel }: { labId: number
         onError: (e) => {
           if (e instanceof ApiError && e.status === 409 && !e.fields.name) {
             setStale({ kind: "stale" });
-            // The person's next step is Reload; put the keyboard there.
-            requestAnimationFrame(() => focus(reloadId));
           } else if (e instanceof ApiError && e.status === 404) {
             setStale({ kind: "gone" });
           } else {
