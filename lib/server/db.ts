@@ -7,8 +7,39 @@ import { initModels, type Models } from "@/models";
 type Db = Models & { sequelize: Sequelize };
 const holder = globalThis as typeof globalThis & { __fluxframeDb?: Db };
 
+/** InnoDB gave up on a lock (1213 deadlock, 1205 lock wait timeout) and rolled the transaction back. */
+export function isLockConflict(error: unknown): boolean {
+  const e = error as { parent?: { errno?: number }; original?: { errno?: number }; errno?: number } | null;
+  const errno = e?.parent?.errno ?? e?.original?.errno ?? e?.errno;
+  return errno === 1213 || errno === 1205;
+}
+
+const LOCK_RETRIES = 3;
+
+/**
+ * A deadlock rolls the whole transaction back, and InnoDB's advice is to run it again. Managed
+ * transactions (the callback form, which every caller here uses) are therefore retried a few times
+ * with a short random pause; the callback runs again from the start on a fresh transaction.
+ */
+export function retryTransactionsOnLockConflict(sequelize: Sequelize): Sequelize {
+  const original = sequelize.transaction.bind(sequelize) as (...args: unknown[]) => Promise<unknown>;
+  const wrapped = async (...args: unknown[]) => {
+    if (!args.some((a) => typeof a === "function")) return original(...args);
+    for (let attempt = 0; ; attempt++) {
+      try {
+        return await original(...args);
+      } catch (error) {
+        if (attempt >= LOCK_RETRIES || !isLockConflict(error)) throw error;
+        await new Promise((r) => setTimeout(r, 20 + Math.random() * 80 * (attempt + 1)));
+      }
+    }
+  };
+  (sequelize as unknown as { transaction: typeof wrapped }).transaction = wrapped;
+  return sequelize;
+}
+
 export function createSequelize(database = process.env.DB_NAME): Sequelize {
-  return new Sequelize({
+  return retryTransactionsOnLockConflict(new Sequelize({
     dialect: "mariadb",
     dialectModule: mariadb,
     host: process.env.DB_HOST || "127.0.0.1",
@@ -22,7 +53,7 @@ export function createSequelize(database = process.env.DB_NAME): Sequelize {
     // Transient connection faults (a database restart) are retried before a caller sees them.
     retry: { max: 3, match: [/ECONNREFUSED/, /ECONNRESET/, /SequelizeConnectionError/, /PROTOCOL_CONNECTION_LOST/] },
     dialectOptions: { connectTimeout: 5000 },
-  });
+  }));
 }
 
 export function db(): Db {

@@ -1,6 +1,7 @@
 import "server-only";
 import { UniqueConstraintError, ForeignKeyConstraintError, ConnectionError } from "sequelize";
 import { ZodError, type ZodType, type z } from "zod";
+import { isLockConflict } from "./db";
 import { InvalidKeyError, ObjectExistsError, ObjectNotFoundError, RangeNotSatisfiableError } from "./storage/errors";
 
 // One error shape for every route: { error: { code, message, fields? } }.
@@ -74,6 +75,13 @@ export function errorResponse(error: unknown): Response {
   if (error instanceof ObjectExistsError) return errorResponse(conflict("That file is already stored."));
   if (error instanceof RangeNotSatisfiableError) return errorResponse(new HttpError(416, "invalid_input", "That byte range is outside the file."));
   if (error instanceof InvalidKeyError) return errorResponse(new HttpError(400, "invalid_input", "That storage key is not valid."));
+  // A lock conflict that outlasted the retries (lib/server/db.ts): nothing was written; try again.
+  if (isLockConflict(error)) {
+    return Response.json(
+      { error: { code: "unavailable", message: "The database was busy with a conflicting change; nothing was saved. Try again." } },
+      { status: 503, headers: { "Retry-After": "1" } },
+    );
+  }
   if (error instanceof ConnectionError) {
     return Response.json(
       { error: { code: "unavailable", message: "The database is not reachable right now; try again shortly." } },
