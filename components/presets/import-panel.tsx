@@ -7,6 +7,7 @@ import { ApiError } from "@/lib/client/api";
 import { useImportPresets, type ImportOutcome } from "@/lib/client/presets";
 import { parseProblemText } from "@/lib/preset-file";
 import { MAX_FILE_CHARS } from "@/lib/schemas/preset-file";
+import { PresetPanel } from "./panel";
 
 type Scope = "private" | "lab";
 
@@ -58,7 +59,6 @@ export function ImportPanel({
   const [localError, setLocalError] = useState<string | null>(null);
   const fileInput = useRef<HTMLInputElement>(null);
   const inputId = useId();
-  const headingId = useId();
   const resultId = useId();
 
   useEffect(() => fileInput.current?.focus(), []);
@@ -100,19 +100,7 @@ export function ImportPanel({
   };
 
   return (
-    <section
-      aria-labelledby={headingId}
-      className="rounded-md border border-paper-200 bg-white p-4"
-      onKeyDown={(e) => {
-        if (e.key === "Escape") onCancel();
-      }}
-    >
-      <h2 id={headingId} className="text-base font-semibold text-paper-900">
-        Import presets
-      </h2>
-      <p className="mt-1 max-w-prose text-sm text-paper-700">
-        Choose a presets file (.json) exported from Fluxframe. Every preset in it is added, or none if the file has a problem.
-      </p>
+    <PresetPanel title="Import presets" description={<>Choose a presets file (.json) exported from Fluxframe. Every preset in it is added, or none if the file has a problem.</>} onCancel={onCancel}>
       <form
         className="mt-3 flex flex-wrap items-end gap-4"
         onSubmit={(e) => {
@@ -169,6 +157,6 @@ export function ImportPanel({
           )}
         </div>
       )}
-    </section>
+    </PresetPanel>
   );
 }

@@ -18,6 +18,7 @@ import {
   type PresetFormChannel,
   type PresetFormValues,
 } from "@/lib/schemas/preset-form";
+import { PresetPanel } from "./panel";
 
 // Single-hue ramps are what "no table" already gives for any colour, so only grey and the
 // perceptual tables are offered.
@@ -143,7 +144,6 @@ export function NewPresetPanel({
   onCancel: () => void;
 }) {
   const create = useCreatePreset(labId);
-  const headingId = useId();
   const nameId = useId();
   const addId = useId();
   const form = useForm<PresetFormValues, unknown, CreatePresetBody>({
@@ -171,20 +171,7 @@ export function NewPresetPanel({
   const serverError = create.error instanceof ApiError && Object.keys(create.error.fields).length ? null : create.error?.message;
 
   return (
-    <section
-      aria-labelledby={headingId}
-      className="rounded-md border border-paper-200 bg-white p-4"
-      onKeyDown={(e) => {
-        if (e.key === "Escape") onCancel();
-      }}
-    >
-      <h2 id={headingId} className="text-base font-semibold text-paper-900">
-        New preset
-      </h2>
-      <p className="mt-1 max-w-prose text-sm text-paper-700">
-        Channels are matched to a dataset&apos;s channels by name when given, otherwise by index. Percentile ranges are worked out from each plane when
-        the preset is applied.
-      </p>
+    <PresetPanel title="New preset" description={<>Channels are matched to a dataset&apos;s channels by name when given, otherwise by index. Percentile ranges are worked out from each plane when the preset is applied.</>} onCancel={onCancel}>
       <form onSubmit={onSubmit} noValidate className="mt-3 space-y-3">
         <div className="flex flex-wrap items-start gap-3">
           <div className="w-80">
@@ -245,6 +232,6 @@ export function NewPresetPanel({
         </div>
       </form>
       <FormError message={serverError} />
-    </section>
+    </PresetPanel>
   );
 }

@@ -6,6 +6,7 @@ import { FormError, TextField } from "@/components/ui/field";
 import { ApiError } from "@/lib/client/api";
 import { fetchPreset, useRenamePreset } from "@/lib/client/presets";
 import type { PresetOut } from "@/lib/schemas/preset";
+import { PresetPanel } from "./panel";
 
 type Stale = { kind: "stale" } | { kind: "reloaded"; current: PresetOut } | { kind: "gone" };
 
@@ -21,7 +22,6 @@ export function RenamePanel({ labId, preset, onDone, onCancel }: { labId: number
   const [stale, setStale] = useState<Stale | null>(null);
   const [reloading, setReloading] = useState(false);
   const [reloadError, setReloadError] = useState<string | null>(null);
-  const headingId = useId();
   const inputId = useId();
   const reloadId = useId();
   // The shared field and button components take no ref, so focus goes by id.
@@ -82,16 +82,7 @@ export function RenamePanel({ labId, preset, onDone, onCancel }: { labId: number
   };
 
   return (
-    <section
-      aria-labelledby={headingId}
-      className="rounded-md border border-paper-200 bg-white p-4"
-      onKeyDown={(e) => {
-        if (e.key === "Escape") onCancel();
-      }}
-    >
-      <h2 id={headingId} className="text-base font-semibold text-paper-900">
-        Rename “{base.name}”
-      </h2>
+    <PresetPanel title={<>Rename “{base.name}”</>} onCancel={onCancel}>
       <form
         className="mt-3 flex flex-wrap items-start gap-3"
         onSubmit={(e) => {
@@ -139,6 +130,6 @@ export function RenamePanel({ labId, preset, onDone, onCancel }: { labId: number
       )}
       {stale?.kind === "gone" && <FormError message="This preset no longer exists; someone deleted it. Cancel to go back to the list." />}
       <FormError message={reloadError ?? otherError} />
-    </section>
+    </PresetPanel>
   );
 }
