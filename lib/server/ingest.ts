@@ -1,19 +1,20 @@
 import "server-only";
-import { inflateSync } from "node:zlib";
 import { PNG } from "pngjs";
 import { ceilingFor, isLeftJustified } from "@/lib/imaging/ceiling";
 import { histogram16, mergeHistograms, statsFromHistogram, type Histogram } from "@/lib/imaging/histogram";
 import { compositeAdditive, downscaleRgba } from "@/lib/imaging/mapping";
 import { defaultChannelColour, hexToRgb } from "@/lib/imaging/palettes";
 import { summarise, summariseForCeilings, type PlaneSummary } from "@/lib/imaging/summary";
-import { windowedSource } from "@/lib/tiff/byte-source";
+import { windowedSource, type ByteSource } from "@/lib/tiff/byte-source";
+import type { DecodedPlane } from "@/lib/tiff/decode";
 import { scanPlanes } from "@/lib/tiff/scan";
 import { DIMENSION_ORDERS, OmeXmlError, parseOmeXml, planeIndex, type DimensionOrder, type OmeImage } from "@/lib/tiff/ome";
-import { compressionName, readTiffStructure, TiffFormatError, type IfdInfo } from "@/lib/tiff/structure";
+import { compressionName, readTiffStructure, TiffFormatError, type IfdInfo, type TiffHeader } from "@/lib/tiff/structure";
 import type { ChannelInfo, Dataset } from "@/models";
 import { statColumnsOf } from "@/models/plane";
 import { blobByteSource } from "./blob-source";
 import { db } from "./db";
+import { inflateOffThread } from "./native-inflate";
 import { blobStore } from "./storage";
 
 /** A problem with the file itself: the dataset fails with this message, and retrying will not help. */
@@ -55,7 +56,8 @@ function dimensionsFor(dataset: Dataset, ome: OmeImage | null, planeCount: numbe
   return dims;
 }
 
-function checkPlanes(planes: IfdInfo[], fileSize: number): void {
+/** Refuses, with the reason, a stack the ingest cannot summarise. Pure: tested without a database. */
+export function checkPlanes(planes: IfdInfo[], fileSize: number): void {
   if (planes.length === 0) throw new IngestError("The file holds no image planes.");
   const first = planes[0];
   for (const ifd of planes) {
@@ -73,10 +75,39 @@ function checkPlanes(planes: IfdInfo[], fileSize: number): void {
     const needed = first.width * first.height * (first.bitsPerSample[0] / 8) * planes.length;
     if (needed > fileSize) throw new IngestError(`${planes.length} uncompressed planes of ${first.width}×${first.height} need ${needed} bytes, but the file has ${fileSize}.`);
   }
+  // Histograms and percentiles here are exact over integer codes; float values have no such bins.
+  if (first.sampleFormat[0] === 3) throw new IngestError("32-bit float planes are read by the decoder but not yet summarised; convert to 16-bit integers.");
 }
 
-// Node's native zlib inflates Deflate blocks several times faster than a JavaScript inflate.
-const nativeInflate = (block: Uint8Array) => inflateSync(block);
+// Node's native zlib inflates Deflate blocks several times faster than a JavaScript inflate, and
+// its asynchronous form runs on the thread pool: blocks inflate on both cores while this thread
+// counts. Two planes decode ahead so blocks stay queued for the pool while a plane is counted.
+const SCAN = { inflate: inflateOffThread, lookahead: 2 };
+
+/**
+ * Decodes the planes in file order as the ingest does. A damaged plane stops the scan with an
+ * IngestError naming the plane (1-based), whichever thread its inflate ran on.
+ */
+export async function* ingestPlanes(
+  source: ByteSource,
+  header: TiffHeader,
+  planes: readonly IfdInfo[],
+  signal?: AbortSignal,
+): AsyncGenerator<{ index: number; ifd: IfdInfo; plane: DecodedPlane }> {
+  const scan = scanPlanes(source, header, planes, { ...SCAN, signal });
+  for (let n = 1; ; n++) {
+    signal?.throwIfAborted();
+    let step;
+    try {
+      step = await scan.next();
+    } catch (error) {
+      if (error instanceof TiffFormatError) throw new IngestError(`Plane ${n}: ${error.message}`);
+      throw error;
+    }
+    if (step.done) return;
+    yield step.value;
+  }
+}
 
 // Until the whole stack is read the ceiling may be unknown (no SignificantBits): keep what each
 // candidate ceiling needs, and pick once the maximum is known.
@@ -158,8 +189,6 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
   }
   const dims = dimensionsFor(dataset, ome, planes.length);
   const bits = first.bitsPerSample[0];
-  const float = first.sampleFormat[0] === 3;
-  if (float) throw new IngestError("32-bit float planes are read by the decoder but not yet summarised; convert to 16-bit integers.");
   const significantBits = ome?.significantBits ?? dataset.significantBits ?? (bits === 8 ? 8 : null);
   const candidates = significantBits ? [2 ** significantBits - 1] : CANDIDATE_BITS.map((b) => 2 ** b - 1);
 
@@ -169,18 +198,7 @@ export async function ingestDataset(datasetId: number, options: IngestOptions = 
   const thumbPlanes: { c: number; data: Uint8Array | Uint16Array | Float32Array }[] = [];
   let stackMax = 0;
 
-  const scan = scanPlanes(raw, structure, planes, { signal: options.signal, inflate: nativeInflate });
-  for (;;) {
-    options.signal?.throwIfAborted();
-    let step;
-    try {
-      step = await scan.next();
-    } catch (error) {
-      if (error instanceof TiffFormatError) throw new IngestError(`Plane ${pending.length + 1}: ${error.message}`);
-      throw error;
-    }
-    if (step.done) break;
-    const { index: i, ifd, plane: decoded } = step.value;
+  for await (const { index: i, ifd, plane: decoded } of ingestPlanes(raw, structure, planes, options.signal)) {
     const { c, z, t } = planeIndex(dims.order, { sizeC: dims.sizeC, sizeZ: dims.sizeZ, sizeT: dims.sizeT }, i);
     const hist = histogram16(decoded.data as Uint16Array | Uint8Array, bits === 8 ? 256 : 65536);
     const channelHist = channelHists[c];

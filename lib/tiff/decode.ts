@@ -16,10 +16,14 @@ export interface DecodeOptions {
   signal?: AbortSignal;
   /**
    * A faster zlib inflate for Deflate blocks where one exists (Node's native zlib on the server);
-   * without it geotiff's JavaScript inflate is used, as in the browser.
+   * without it geotiff's JavaScript inflate is used, as in the browser. `expectedBytes` is the
+   * block's decoded size (a hint for output buffers). It may return a promise: an inflate running
+   * off the main thread then overlaps other blocks' inflates and the caller's counting.
    */
-  inflate?: (block: Uint8Array) => Uint8Array;
+  inflate?: Inflate;
 }
+
+export type Inflate = (block: Uint8Array, expectedBytes: number) => Uint8Array | Promise<Uint8Array>;
 
 const HOST_LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 
@@ -29,6 +33,11 @@ export const MAX_PLANE_PIXELS = 2 ** 28;
 // Reads of blocks closer than this are merged into one read (one HTTP range instead of many).
 const MERGE_GAP = 4096;
 const MERGE_MAX = 16 * 1024 * 1024;
+
+// Decoded bytes of one plane's blocks allowed in flight at once (at least one block is always
+// allowed). With an asynchronous inflate this many bytes' worth of blocks can be inflating at
+// the same time; with a synchronous decoder it only bounds the results held before placement.
+export const BLOCK_WINDOW_BYTES = 8 * 1024 * 1024;
 
 /**
  * Decodes the plane whose IFD starts at `ifdOffset` (stored at ingest). Reads that one IFD and its
@@ -96,9 +105,17 @@ export async function decodeIfd(
   const data = float ? new Float32Array(width * height) : bits === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
   const dataBytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
 
+  // Blocks are decoded through a window: each is put in place as soon as it is decoded, and a
+  // failure stops new blocks from starting. Every block writes its own pixels, so the plane does not
+  // depend on the order in which decodes finish.
+  const window = blockWindow(BLOCK_WINDOW_BYTES);
   for (const { start, length, members } of groups) {
+    if (window.failed) break;
     const buf = length > 0 ? await source.read(start, length, signal) : new ArrayBuffer(0);
-    if (buf.byteLength < length) throw new TiffFormatError(`The file ended inside the pixel data of the plane at byte ${ifd.offset}`);
+    if (buf.byteLength < length) {
+      await window.finish();
+      throw new TiffFormatError(`The file ended inside the pixel data of the plane at byte ${ifd.offset}`);
+    }
     for (const b of members) {
       const x0 = (b.i % tilesAcross) * blockWidth;
       const y0 = Math.floor(b.i / tilesAcross) * blockRows;
@@ -109,31 +126,75 @@ export async function decodeIfd(
       if (b.length === 0) continue;
       if (direct) {
         if (b.length < expected) {
+          await window.finish();
           throw new TiffFormatError(`Strip ${b.i} of the plane at byte ${ifd.offset} holds ${b.length} bytes; ${expected} were expected (damaged data?)`);
         }
         dataBytes.set(new Uint8Array(buf, b.offset - start, expected), y0 * width * bytesPerValue);
         continue;
       }
-      const decoded = await decode(buf.slice(b.offset - start, b.offset - start + b.length));
-      if (decoded.byteLength < expected) {
-        throw new TiffFormatError(
-          `Block ${b.i} of the plane at byte ${ifd.offset} decoded to ${decoded.byteLength} bytes; ${expected} were expected (damaged data?)`,
-        );
-      }
-      const values = toNative(decoded, blockWidth * rows, bits, float, header.littleEndian);
-      if (ifd.predictor === 2) undoHorizontalDifferencing(values, blockWidth, rows);
-      const copyWidth = Math.min(blockWidth, width - x0);
-      const copyRows = Math.min(rows, height - y0);
-      for (let y = 0; y < copyRows; y++) {
-        const from = y * blockWidth;
-        data.set(values.subarray(from, from + copyWidth), (y0 + y) * width + x0);
-      }
+      const block = buf.slice(b.offset - start, b.offset - start + b.length);
+      await window.add(expected, async () => {
+        const decoded = await decode(block, expected);
+        if (decoded.byteLength < expected) {
+          throw new TiffFormatError(
+            `Block ${b.i} of the plane at byte ${ifd.offset} decoded to ${decoded.byteLength} bytes; ${expected} were expected (damaged data?)`,
+          );
+        }
+        const values = toNative(decoded, blockWidth * rows, bits, float, header.littleEndian);
+        if (ifd.predictor === 2) undoHorizontalDifferencing(values, blockWidth, rows);
+        const copyWidth = Math.min(blockWidth, width - x0);
+        const copyRows = Math.min(rows, height - y0);
+        for (let y = 0; y < copyRows; y++) {
+          const from = y * blockWidth;
+          data.set(values.subarray(from, from + copyWidth), (y0 + y) * width + x0);
+        }
+      });
+      if (window.failed) break;
     }
   }
+  await window.finish();
   return { width, height, data };
 }
 
-type BlockDecode = (block: ArrayBuffer) => Promise<ArrayBuffer>;
+/**
+ * Runs block decodes with at most `budget` decoded bytes in flight. After a failure no new block
+ * starts; finish() waits for every started block and throws the failure of the block started
+ * first, which is the error a one-at-a-time decode would have thrown. No rejection is left unhandled.
+ */
+function blockWindow(budget: number) {
+  const running = new Set<Promise<void>>();
+  const failures: { i: number; error: unknown }[] = [];
+  let bytes = 0;
+  let started = 0;
+  return {
+    get failed() {
+      return failures.length > 0;
+    },
+    async add(cost: number, run: () => Promise<void>): Promise<void> {
+      while (running.size > 0 && bytes + cost > budget && failures.length === 0) await Promise.race(running);
+      if (failures.length > 0) return;
+      const i = started++;
+      bytes += cost;
+      const task: Promise<void> = run()
+        .catch((error: unknown) => {
+          failures.push({ i, error });
+        })
+        .finally(() => {
+          bytes -= cost;
+          running.delete(task);
+        });
+      running.add(task);
+    },
+    /** Waits for every started block; throws the failure of the first one started that failed, if any. */
+    async finish(): Promise<void> {
+      await Promise.all(running);
+      if (failures.length > 0) throw failures.reduce((a, b) => (b.i < a.i ? b : a)).error;
+    },
+  };
+}
+
+/** Decodes one block; the bytes returned are the caller's to change in place (the predictor is undone there). */
+type BlockDecode = (block: ArrayBuffer, expectedBytes: number) => Promise<Uint8Array>;
 
 async function blockDecoder(
   compression: number,
@@ -142,26 +203,26 @@ async function blockDecoder(
   bits: number,
   inflate?: DecodeOptions["inflate"],
 ): Promise<BlockDecode> {
-  if (compression === 1) return async (block) => block;
+  if (compression === 1) return async (block) => new Uint8Array(block);
   if ((compression === 8 || compression === 32946) && inflate) {
-    return async (block) => {
+    return async (block, expectedBytes) => {
       try {
-        const out = inflate(new Uint8Array(block));
-        return out.buffer.slice(out.byteOffset, out.byteOffset + out.byteLength) as ArrayBuffer;
+        // Used in place, not copied: zlib's result is a fresh buffer nobody else holds.
+        return await inflate(new Uint8Array(block), expectedBytes);
       } catch (e) {
         throw new TiffFormatError(`A compressed block could not be decoded: ${e instanceof Error ? e.message : String(e)}`);
       }
     };
   }
   const blockBytes = tileWidth * tileHeight * (bits / 8);
-  if (compression === 32773) return async (block) => unpackBits(new Uint8Array(block), blockBytes);
-  if (compression === 5) return async (block) => lzwDecode(new Uint8Array(block), blockBytes).buffer as ArrayBuffer;
+  if (compression === 32773) return async (block) => new Uint8Array(unpackBits(new Uint8Array(block), blockBytes));
+  if (compression === 5) return async (block) => lzwDecode(new Uint8Array(block), blockBytes);
   // Predictor 1 here: the predictor is undone below on values in machine byte order.
   const decoder = await getDecoder(compression, { tileWidth, tileHeight, predictor: 1, bitsPerSample: [bits], planarConfiguration: 1 });
   return async (block) => {
     try {
       const out = await decoder.decode(block);
-      return out instanceof ArrayBuffer ? out : new Uint8Array(out).slice().buffer;
+      return out instanceof ArrayBuffer ? new Uint8Array(out) : new Uint8Array(out).slice();
     } catch (e) {
       throw new TiffFormatError(`A compressed block could not be decoded: ${e instanceof Error ? e.message : String(e)}`);
     }
@@ -193,10 +254,15 @@ export function unpackBits(input: Uint8Array, expectedLength: number): ArrayBuff
   return o === expectedLength ? out.buffer : out.slice(0, o).buffer;
 }
 
-function toNative(buf: ArrayBuffer, count: number, bits: number, float: boolean, littleEndian: boolean): Uint8Array | Uint16Array | Float32Array {
-  if (bits === 8) return new Uint8Array(buf, 0, count);
-  if (littleEndian === HOST_LITTLE_ENDIAN) return float ? new Float32Array(buf, 0, count) : new Uint16Array(buf, 0, count);
-  const view = new DataView(buf);
+function toNative(bytes: Uint8Array, count: number, bits: number, float: boolean, littleEndian: boolean): Uint8Array | Uint16Array | Float32Array {
+  if (bits === 8) return bytes.subarray(0, count);
+  if (littleEndian === HOST_LITTLE_ENDIAN) {
+    const size = float ? 4 : 2;
+    // A view where the bytes are aligned for it; a typed array cannot start at an odd offset.
+    const aligned = bytes.byteOffset % size === 0 ? bytes : bytes.slice(0, count * size);
+    return float ? new Float32Array(aligned.buffer, aligned.byteOffset, count) : new Uint16Array(aligned.buffer, aligned.byteOffset, count);
+  }
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   if (float) {
     const out = new Float32Array(count);
     for (let i = 0; i < count; i++) out[i] = view.getFloat32(i * 4, littleEndian);

@@ -7,15 +7,17 @@ import { createReadStream } from "node:fs";
 import { mkdir, mkdtemp, open, rm, stat, writeFile } from "node:fs/promises";
 import { cpus, tmpdir } from "node:os";
 import { join, resolve } from "node:path";
-// The ingest runs in Node and inflates with native zlib (lib/server/ingest.ts), so the bench does too.
+// The ingest runs in Node and inflates with native zlib on the thread pool (lib/server/ingest.ts,
+// native-inflate.ts), so the bench does too; inflateSync is the one-core comparison.
 import { deflateSync, inflateSync } from "node:zlib";
 import { histogram16, statsFromHistogram } from "@/lib/imaging/histogram";
 import { percentiles, STANDARD_PERCENTILES } from "@/lib/imaging/percentile";
 import { createRandom } from "@/lib/imaging/random";
 import { DEMO_CAMERA, DEMO_CHANNELS, exposeCamera, makeScene, renderSignal } from "@/lib/imaging/synthetic";
 import type { ByteSource } from "@/lib/tiff/byte-source";
-import { decodePlane } from "@/lib/tiff/decode";
-import { scanPlanes } from "@/lib/tiff/scan";
+import { inflateOffThread } from "@/lib/server/native-inflate";
+import { BLOCK_WINDOW_BYTES, decodePlane, type Inflate } from "@/lib/tiff/decode";
+import { scanPlanes, type ScanOptions } from "@/lib/tiff/scan";
 import { fileSource } from "@/lib/tiff/file-source";
 import { readTiffHeader, readTiffStructure } from "@/lib/tiff/structure";
 import { createTiffWriter, type TiffWriteOptions } from "@/lib/tiff/writer";
@@ -68,15 +70,20 @@ async function plainRead(path: string): Promise<number> {
   return bytes;
 }
 
+/** What the ingest passes to scanPlanes (lib/server/ingest.ts): thread-pool inflate, two planes ahead. */
+const INGEST_SCAN: ScanOptions = { inflate: inflateOffThread, lookahead: 2 };
+/** The single-threaded way, for comparison: synchronous inflate on the main thread, one plane ahead. */
+const SYNC_SCAN: ScanOptions = { inflate: (block) => inflateSync(block), lookahead: 1 };
+
 /** Measured: structure, then every plane decoded by stored offset, histogram, stats and percentiles. */
-async function statsPass(path: string): Promise<number> {
+async function statsPass(path: string, scan: ScanOptions): Promise<number> {
   const src = await fileSource(path);
   try {
     const structure = await readTiffStructure(src);
     const header = await readTiffHeader(src);
     let pixels = 0;
-    // The ingest's own loop: one plane of lookahead, so reading overlaps counting (lib/tiff/scan.ts).
-    for await (const { plane } of scanPlanes(src, header, structure.ifds, { inflate: inflateSync })) {
+    // The ingest's own loop: planes decode ahead, so reading and inflating overlap counting (lib/tiff/scan.ts).
+    for await (const { plane } of scanPlanes(src, header, structure.ifds, scan)) {
       const data = plane.data;
       const h = histogram16(data as Uint16Array);
       const s = statsFromHistogram(h, DEMO_CAMERA.ceiling);
@@ -95,7 +102,44 @@ async function decodeOnly(path: string): Promise<void> {
   try {
     const structure = await readTiffStructure(src);
     const header = await readTiffHeader(src);
-    for (const ifd of structure.ifds) await decodePlane(src, ifd.offset, { header, inflate: inflateSync });
+    for (const ifd of structure.ifds) await decodePlane(src, ifd.offset, { header, inflate: (block) => inflateSync(block) });
+  } finally {
+    await src.close();
+  }
+}
+
+/**
+ * The codec floor: every plane's compressed bytes read as the ingest reads them (one range per
+ * plane) and every block inflated, nothing else (no predictor, no placement, no counting). With an
+ * asynchronous inflate, up to `inFlightBytes` of decoded blocks inflate at once, as many as the
+ * ingest allows (planes ahead × per-plane window), so the parallelism is the same.
+ */
+async function inflateAlone(path: string, inflate: Inflate, inFlightBytes: number): Promise<number> {
+  const src = await fileSource(path);
+  try {
+    const structure = await readTiffStructure(src);
+    const running = new Set<Promise<void>>();
+    let bytes = 0;
+    let out = 0;
+    for (const ifd of structure.ifds) {
+      const { offsets, byteCounts } = ifd.layout;
+      const start = Math.min(...offsets);
+      const end = Math.max(...offsets.map((o, i) => o + byteCounts[i]));
+      const buf = new Uint8Array(await src.read(start, end - start));
+      const perBlock = ifd.layout.kind === "tiles" ? ifd.layout.tileWidth * ifd.layout.tileLength * 2 : ifd.width * ifd.layout.rowsPerStrip * 2;
+      for (let i = 0; i < offsets.length; i++) {
+        while (running.size > 0 && bytes + perBlock > inFlightBytes) await Promise.race(running);
+        bytes += perBlock;
+        const task: Promise<void> = Promise.resolve(inflate(buf.slice(offsets[i] - start, offsets[i] - start + byteCounts[i]), perBlock)).then((o) => {
+          out += o.byteLength;
+          bytes -= perBlock;
+          running.delete(task);
+        });
+        running.add(task);
+      }
+    }
+    await Promise.all(running);
+    return out;
   } finally {
     await src.close();
   }
@@ -116,11 +160,24 @@ async function alternate(runs: number, a: () => Promise<unknown>, b: () => Promi
   return [bestA, bestB];
 }
 
+/** Best of `runs` rounds, each running every measure once in turn, so all see the same machine load. */
+async function rotate(runs: number, fns: (() => Promise<unknown>)[]): Promise<number[]> {
+  const best = fns.map(() => Infinity);
+  for (let r = 0; r < runs; r++) {
+    for (let k = 0; k < fns.length; k++) {
+      const t = now();
+      await fns[k]();
+      best[k] = Math.min(best[k], now() - t);
+    }
+  }
+  return best;
+}
+
 async function statsVsPlainRead(dir: string, planes: Uint16Array[]): Promise<void> {
   const count = Math.max(1, Math.round((gib * 2 ** 30) / PLANE_BYTES));
-  const variants: { name: string; options: Omit<TiffWriteOptions, "width" | "height" | "bitsPerSample"> }[] = [
-    { name: "uncompressed", options: {} },
-    { name: "Deflate + predictor", options: { compression: "deflate", compress: (b) => deflateSync(b), predictor: true } },
+  const variants: { name: string; deflate: boolean; options: Omit<TiffWriteOptions, "width" | "height" | "bitsPerSample"> }[] = [
+    { name: "uncompressed", deflate: false, options: {} },
+    { name: "Deflate + predictor", deflate: true, options: { compression: "deflate", compress: (b) => deflateSync(b), predictor: true } },
   ];
   for (const v of variants) {
     const path = join(dir, `stack-${v.name.replace(/\W+/g, "-")}.tif`);
@@ -128,26 +185,77 @@ async function statsVsPlainRead(dir: string, planes: Uint16Array[]): Promise<voi
     const fileBytes = await writeStack(path, count, planes, v.options);
     const writeMs = now() - t0;
     const rawBytes = count * PLANE_BYTES;
-    const [plainMs, statsMs] = await alternate(2, () => plainRead(path), () => statsPass(path));
+    // Deflate: all five measures of the breakdown in one rotation (the machine may be busy; each
+    // figure is the best of its rounds, and every measure saw the same stretch of load).
+    const window = (INGEST_SCAN.lookahead ?? 1) * BLOCK_WINDOW_BYTES;
+    const [plainMs, statsMs, inflateMs, inflateSyncMs, syncStatsMs] = v.deflate
+      ? await rotate(2, [
+          () => plainRead(path),
+          () => statsPass(path, INGEST_SCAN),
+          () => inflateAlone(path, inflateOffThread, window),
+          () => inflateAlone(path, (block) => inflateSync(block), Infinity),
+          () => statsPass(path, SYNC_SCAN),
+        ])
+      : await alternate(2, () => plainRead(path), () => statsPass(path, INGEST_SCAN));
     const ratio = statsMs / plainMs;
+    const perS = (bytes: number, ms: number) => `${(bytes / MB / (ms / 1000)).toFixed(0)} MB/s`;
     console.log(`  wrote ${v.name}: ${count} planes, ${(fileBytes / MB).toFixed(0)} MB in ${(writeMs / 1000).toFixed(1)} s`);
     rows.push({
-      bench: `stats pass vs plain read, ${count} × 2048² 16-bit, ${v.name} (${(fileBytes / MB).toFixed(0)} MB file)`,
-      baseline: `fs read ${(fileBytes / MB / (plainMs / 1000)).toFixed(0)} MB/s of file`,
-      measured: `${(fileBytes / MB / (statsMs / 1000)).toFixed(0)} MB/s of file, ${(rawBytes / MB / (statsMs / 1000)).toFixed(0)} MB/s of pixels`,
+      bench: `stats pass vs plain read, ${count} × 2048² 16-bit, ${v.name} (${(fileBytes / MB).toFixed(0)} MB file)${v.deflate ? ", as the ingest runs it: inflate on the thread pool, 2 planes ahead" : ""}`,
+      baseline: `fs read ${perS(fileBytes, plainMs)} of file (${plainMs.toFixed(0)} ms)`,
+      measured: `${perS(fileBytes, statsMs)} of file, ${perS(rawBytes, statsMs)} of pixels (${statsMs.toFixed(0)} ms)`,
       ratio,
       target: "stats time ≤ 2 × plain read",
       met: ratio <= 2,
     });
-    const [, decodeMs] = await alternate(1, async () => undefined, () => decodeOnly(path));
-    rows.push({
-      bench: `  of which decoding (${v.name})`,
-      baseline: "fs read, as above",
-      measured: `decode only ${(rawBytes / MB / (decodeMs / 1000)).toFixed(0)} MB/s of pixels (${((100 * decodeMs) / statsMs).toFixed(0)} % of the stats pass)`,
-      ratio: decodeMs / plainMs,
-      target: "(breakdown)",
-      met: true,
-    });
+    if (!v.deflate) {
+      const [, decodeMs] = await alternate(1, async () => undefined, () => decodeOnly(path));
+      rows.push({
+        bench: `  of which decoding (${v.name})`,
+        baseline: "fs read, as above",
+        measured: `decode only ${perS(rawBytes, decodeMs)} of pixels (${((100 * decodeMs) / statsMs).toFixed(0)} % of the stats pass)`,
+        ratio: decodeMs / plainMs,
+        target: "(breakdown)",
+        met: true,
+      });
+    } else {
+      // Same run, same file: the codec floor (zlib inflate alone, same parallelism as the ingest),
+      // what the stats pass adds on top of it, and the one-core figures for comparison.
+      rows.push(
+        {
+          bench: `  of which zlib inflate alone, same parallelism (the codec floor; ${v.name})`,
+          baseline: "fs read, as above",
+          measured: `${perS(rawBytes, inflateMs)} of pixels (${inflateMs.toFixed(0)} ms, ${((100 * inflateMs) / statsMs).toFixed(0)} % of the stats pass)`,
+          ratio: inflateMs / plainMs,
+          target: "(breakdown: no stats pass can beat this)",
+          met: true,
+        },
+        {
+          bench: `  of which the stats pass's own cost = total − inflate alone (${v.name})`,
+          baseline: "fs read, as above",
+          measured: `${(statsMs - inflateMs).toFixed(0)} ms (predictor, placement, histogram, stats, percentiles not hidden behind inflating)`,
+          ratio: (statsMs - inflateMs) / plainMs,
+          target: "(breakdown)",
+          met: true,
+        },
+        {
+          bench: `  for comparison, one core: zlib inflateSync alone (${v.name})`,
+          baseline: "fs read, as above",
+          measured: `${perS(rawBytes, inflateSyncMs)} of pixels (${inflateSyncMs.toFixed(0)} ms); thread pool ${(inflateSyncMs / inflateMs).toFixed(2)}× faster`,
+          ratio: inflateSyncMs / plainMs,
+          target: "(comparison)",
+          met: true,
+        },
+        {
+          bench: `  for comparison, one core: stats pass with inflateSync, 1 plane ahead (before; ${v.name})`,
+          baseline: "fs read, as above",
+          measured: `${perS(rawBytes, syncStatsMs)} of pixels (${syncStatsMs.toFixed(0)} ms); thread pool ${(syncStatsMs / statsMs).toFixed(2)}× faster`,
+          ratio: syncStatsMs / plainMs,
+          target: "(comparison)",
+          met: true,
+        },
+      );
+    }
     await rm(path, { force: true });
   }
 }
