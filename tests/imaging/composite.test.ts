@@ -22,7 +22,8 @@ describe("packed lane arithmetic", () => {
         expect(bytes(addSaturate(wa, wb))).toEqual(expected);
       }
     }
-  });
+    // 65,536 expect calls: seconds on a busy shared machine, beyond the 5 s default.
+  }, 30_000);
 
   test("maxLanes takes the larger byte in each lane, for every pair of byte values", () => {
     const next = rng(8);
@@ -34,7 +35,7 @@ describe("packed lane arithmetic", () => {
         expect(bytes(maxLanes(wa, wb))).toEqual(bytes(wa).map((x, k) => Math.max(x, bytes(wb)[k])));
       }
     }
-  });
+  }, 30_000);
 });
 
 function channels(n: number, count: number) {
@@ -196,5 +197,82 @@ describe("compositeAdd fast path against a per-pixel reference", () => {
     compositeAdd(chans, buffer.subarray(4, 4 + n));
     expect(firstDifference(buffer.subarray(4, 4 + n), referenceAdd(chans, n))).toBe(-1);
     expect([...buffer.subarray(0, 4), ...buffer.subarray(4 + n)]).toEqual(new Array(8).fill(0x12345678));
+  });
+});
+
+// The 2- and 3-channel spread loops take eight pixels per step, with a tail of one word at a time,
+// and carry a +256 bias in the first table so that bit 9 of a field alone marks a sum past 255.
+// Every loop tail, the exact clamp boundary and reuse of the shared tables between channel counts
+// are checked against a plain per-pixel sum written here.
+describe("compositeAdd eight-pixel loops against a plain per-pixel sum", () => {
+  const plainAdd = (chans: { pixels: Uint16Array; rgbaLut: Uint32Array }[], n: number) => {
+    const out = new Uint32Array(n);
+    for (let i = 0; i < n; i++) {
+      let r = 0;
+      let g = 0;
+      let b = 0;
+      let a = 0;
+      for (const c of chans) {
+        const [cr, cg, cb, ca] = unpackRgba(c.rgbaLut[c.pixels[i]]);
+        r += cr;
+        g += cg;
+        b += cb;
+        a += ca;
+      }
+      out[i] = packRgba(Math.min(r, 255), Math.min(g, 255), Math.min(b, 255), Math.min(a, 255));
+    }
+    return out;
+  };
+  const firstDifference = (a: Uint32Array, b: Uint32Array) => a.findIndex((x, i) => x !== b[i]);
+  const next = rng(4242);
+  // Any opaque colour per raw value: sums pass 255 in some components and not in others.
+  const randomTable = () => Uint32Array.from({ length: 65536 }, () => packRgba(Math.floor(next() * 256), Math.floor(next() * 256), Math.floor(next() * 256), 255));
+  // Raw values: 0, 65535 and anything between.
+  const edgyPlane = (n: number) => Uint16Array.from({ length: n }, () => [0, 65535, Math.floor(next() * 65536)][Math.floor(next() * 3)]);
+
+  test("every length 1…40 (every tail of the eight-pixel step, odd and even) for 2, 3 and 4 channels", () => {
+    const tables = [randomTable(), randomTable(), randomTable(), randomTable()];
+    for (const count of [2, 3, 4]) {
+      for (let n = 1; n <= 40; n++) {
+        const chans = tables.slice(0, count).map((rgbaLut) => ({ pixels: edgyPlane(n), rgbaLut }));
+        expect([count, n, firstDifference(compositeAdd(chans, new Uint32Array(n)), plainAdd(chans, n))]).toEqual([count, n, -1]);
+      }
+    }
+  });
+
+  test("sums just below, at and above 255 in each component, for every triple of chosen levels", () => {
+    // Component levels whose sums of two or three hit 254, 255, 256, 510 and 765 exactly.
+    const levels = [0, 1, 85, 127, 128, 170, 254, 255];
+    const table = (lane: number) => {
+      const t = new Uint32Array(65536);
+      for (let v = 0; v < 65536; v++) {
+        const rgb = [0, 0, 0];
+        rgb[lane] = levels[v & 7];
+        rgb[(lane + 2) % 3] = levels[(v >> 3) & 7]; // a neighbouring field changes too, so a carry would show
+        t[v] = packRgba(rgb[0], rgb[1], rgb[2], 255);
+      }
+      return t;
+    };
+    const n = 512; // 8³ triples, plus 8 × 8 × 8 for the neighbouring field
+    for (const count of [2, 3]) {
+      for (const lane of [0, 1, 2]) {
+        const chans = Array.from({ length: count }, (_, c) => ({
+          pixels: Uint16Array.from({ length: n }, (_, i) => ((i >> (3 * c)) & 7) | (((i >> (3 * ((c + 1) % 3))) & 7) << 3)),
+          rgbaLut: table(lane),
+        }));
+        expect(firstDifference(compositeAdd(chans, new Uint32Array(n)), plainAdd(chans, n))).toBe(-1);
+      }
+    }
+  });
+
+  test("calls with 4, 3, 2 and again 4 and 3 channels reuse the shared tables without leftovers", () => {
+    const n = 257;
+    const planes = Array.from({ length: 4 }, () => edgyPlane(n));
+    const tables = [randomTable(), randomTable(), randomTable(), randomTable()];
+    for (const count of [4, 3, 2, 4, 3, 2, 3]) {
+      // Rotate which table comes first, so the biased table changes from call to call.
+      const chans = planes.slice(0, count).map((pixels, c) => ({ pixels, rgbaLut: tables[(c + count) % 4] }));
+      expect(firstDifference(compositeAdd(chans, new Uint32Array(n)), plainAdd(chans, n))).toBe(-1);
+    }
   });
 });

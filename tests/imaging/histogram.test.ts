@@ -141,3 +141,29 @@ describe("histogram16 fast path against a per-pixel reference", () => {
     expect(s.sd).toBeCloseTo(Math.sqrt(squares / plane.length), 6);
   });
 });
+
+// The word loop counts into one shared array of 65,536 counters, handed back as a fresh Uint32Array
+// and zeroed for the next call; nothing may carry over from one plane to the next.
+describe("histogram16 shared counters between calls", () => {
+  const reference = (pixels: Uint16Array) => {
+    const counts = new Uint32Array(65536);
+    for (let i = 0; i < pixels.length; i++) counts[pixels[i]]++;
+    return counts;
+  };
+  const firstDifference = (a: Uint32Array, b: Uint32Array) => a.findIndex((x, i) => x !== b[i]);
+
+  test("planes counted one after another each match a per-pixel count, and earlier results stay unchanged", () => {
+    const next = rng(77);
+    const planes = [
+      Uint16Array.from({ length: 20_001 }, () => Math.floor(next() * 65536)),
+      new Uint16Array(5_000).fill(65535),
+      Uint16Array.from({ length: 7 }, () => Math.floor(next() * 4096)),
+      new Uint16Array(9_000), // all zeros
+      Uint16Array.from({ length: 12_345 }, () => 100 + Math.floor(next() * 8)), // few, often repeated values
+    ];
+    const results = planes.map((p) => histogram16(p));
+    results.forEach((h, i) => expect([i, firstDifference(h, reference(planes[i]))]).toEqual([i, -1]));
+    // Counted again in reverse order: the same counts.
+    [...planes].reverse().forEach((p, i) => expect([i, firstDifference(histogram16(p), reference(p))]).toEqual([i, -1]));
+  });
+});
