@@ -51,14 +51,20 @@ export async function requestPasswordReset(email: string, ip: string | null): Pr
   const { token, hash } = newToken();
   await PasswordReset.create({ userId: user.id, tokenHash: hash, expiresAt: new Date(Date.now() + RESET_HOURS * 3600_000) });
   await audit({ action: "user.password_reset_requested", actorId: user.id, target: email, ip });
-  await sendMail({
-    to: user.email,
-    subject: "Reset your Fluxframe password",
-    text:
-      `Hello ${user.name},\n\nSomeone (hopefully you) asked to reset the password of your Fluxframe account.\n` +
-      `Open this link within ${RESET_HOURS} hour to choose a new password:\n\n${appUrl(`/reset-password?token=${token}`)}\n\n` +
-      `If you did not ask for this, ignore this message; your password stays as it is.`,
-  });
+  try {
+    await sendMail({
+      to: user.email,
+      subject: "Reset your Fluxframe password",
+      text:
+        `Hello ${user.name},\n\nSomeone (hopefully you) asked to reset the password of your Fluxframe account.\n` +
+        `Open this link within ${RESET_HOURS} hour to choose a new password:\n\n${appUrl(`/reset-password?token=${token}`)}\n\n` +
+        `If you did not ask for this, ignore this message; your password stays as it is.`,
+    });
+  } catch (error) {
+    // A failed send must not answer differently from an unknown address (a 500 here would tell who
+    // has an account). The error is logged without the message, which holds the token.
+    console.error("[fluxframe] password-reset e-mail not sent:", error instanceof Error ? error.message : error);
+  }
 }
 
 export async function resetPassword(token: string, password: string, ip: string | null): Promise<void> {

@@ -1,7 +1,7 @@
 import "server-only";
 import { UniqueConstraintError, ForeignKeyConstraintError, ConnectionError } from "sequelize";
 import { ZodError, type ZodType, type z } from "zod";
-import { isLockConflict } from "./db";
+import { isConnectionLoss, isLockConflict, isNodeNotReady } from "./db";
 import { InvalidKeyError, ObjectExistsError, ObjectNotFoundError, RangeNotSatisfiableError } from "./storage/errors";
 
 // One error shape for every route: { error: { code, message, fields? } }.
@@ -15,6 +15,7 @@ export type ErrorCode =
   | "gone"
   | "rate_limited"
   | "unavailable"
+  | "insufficient_storage"
   | "internal";
 
 export class HttpError extends Error {
@@ -82,10 +83,21 @@ export function errorResponse(error: unknown): Response {
       { status: 503, headers: { "Retry-After": "1" } },
     );
   }
-  if (error instanceof ConnectionError) {
+  // 1047: a Galera node outside the primary component refused the statement; nothing was run.
+  if (error instanceof ConnectionError || isConnectionLoss(error) || isNodeNotReady(error)) {
     return Response.json(
       { error: { code: "unavailable", message: "The database is not reachable right now; try again shortly." } },
       { status: 503, headers: { "Retry-After": "2" } },
+    );
+  }
+  // The blob store's disk (or quota) is full: nothing was kept for this write (the local store
+  // writes to a temp file and publishes with link(), so no partial object exists), and an open upload
+  // keeps its earlier parts. 507 Insufficient Storage (RFC 4918 §11.5) says so plainly; Retry-After
+  // because space may be freed by an administrator without anything changing on the client.
+  if (isStorageFull(error)) {
+    return Response.json(
+      { error: { code: "insufficient_storage", message: "The server's storage is full, so nothing was stored for this request. Parts already uploaded are kept; try again once space has been freed." } },
+      { status: 507, headers: { "Retry-After": "60" } },
     );
   }
   // The client went away mid-request (closed tab, aborted fetch): nobody reads an answer, and it is
@@ -94,6 +106,14 @@ export function errorResponse(error: unknown): Response {
   // Unknown errors are logged on the server only; the client gets a generic message.
   console.error("[fluxframe] unexpected error:", error);
   return Response.json({ error: { code: "internal", message: "Something went wrong on our side." } }, { status: 500 });
+}
+
+/** ENOSPC (no space left on device) or EDQUOT (disk quota exceeded), possibly wrapped as a cause. */
+export function isStorageFull(error: unknown): boolean {
+  for (let e = error as { code?: unknown; cause?: unknown } | null, depth = 0; e && typeof e === "object" && depth < 5; e = e.cause as typeof e, depth++) {
+    if (e.code === "ENOSPC" || e.code === "EDQUOT") return true;
+  }
+  return false;
 }
 
 /** Reads a JSON body and validates it; bad JSON and invalid fields become 400s with the field messages. */

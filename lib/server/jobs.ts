@@ -6,8 +6,14 @@ import { IngestError, ingestDataset } from "./ingest";
 
 // Any number of worker processes claim jobs from MariaDB; SKIP LOCKED lets them pass over rows another
 // worker holds instead of waiting. A running job whose heartbeat is older than STALE_SECONDS belonged
-// to a worker that died (restart, kill): it is claimed again and redone from the start.
-const STALE_SECONDS = 60;
+// to a worker that died (restart, kill): it is claimed again and redone from the start. A live worker
+// beats at least every few hundred milliseconds while it reads planes, so a minute is a wide margin;
+// JOB_STALE_SECONDS (≥ 5) shortens it where a quicker takeover matters more (the restart test).
+export function staleSeconds(value: string | undefined): number {
+  const n = Number(value);
+  return value !== undefined && value.trim() !== "" && Number.isInteger(n) && n >= 5 ? n : 60;
+}
+const STALE_SECONDS = staleSeconds(process.env.JOB_STALE_SECONDS);
 const MAX_ATTEMPTS = 3;
 
 export const workerId = () => `${hostname()}:${process.pid}`;
@@ -78,7 +84,13 @@ export async function workLoop(signal: AbortSignal, idleMs = 500): Promise<void>
     } catch (error) {
       console.error("[fluxframe] could not claim a job:", error instanceof Error ? error.message : error);
     }
-    if (job) await runJob(job);
-    else await new Promise((r) => setTimeout(r, idleMs));
+    if (!job) {
+      await new Promise((r) => setTimeout(r, idleMs));
+      continue;
+    }
+    // One line per claim and per outcome: with workers on several machines the logs show who did what.
+    console.log(`[fluxframe] worker ${worker} claimed job ${job.id} (dataset ${job.datasetId}, attempt ${job.attempts})`);
+    const outcome = await runJob(job);
+    console.log(`[fluxframe] worker ${worker} finished job ${job.id}: ${outcome}`);
   }
 }

@@ -181,7 +181,10 @@ export async function completeUpload(actor: Actor, labId: number, uploadId: stri
   } catch (error) {
     if (!(error instanceof HttpError)) {
       await store.delete(key).catch(() => undefined);
-      await upload.update({ status: "open" }).catch(() => undefined); // the parts are still there: try again
+      // The parts are still there: open the upload again so the person can retry. A plain
+      // upload.update() would be skipped, because the instance still says "open" (the flip to
+      // "completing" above went through Upload.update), leaving the upload stuck in "completing".
+      await Upload.update({ status: "open" }, { where: { id: uploadId, status: "completing" } }).catch(() => undefined);
     }
     throw error;
   }

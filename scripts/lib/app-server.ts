@@ -1,6 +1,7 @@
 // Starts `next start` (or `next dev`) in its own process group and waits until it answers, so that it
 // can be stopped as a group later (its process title changes to next-server; PLATFORM.md).
 import { spawn, type ChildProcess } from "node:child_process";
+import { closeSync, openSync } from "node:fs";
 import { join } from "node:path";
 import { root } from "./env";
 
@@ -36,12 +37,15 @@ export async function startAppServer(options: {
   mode: "start" | "dev";
   env?: Record<string, string>;
   quiet?: boolean;
+  /** Appends the server's stdout and stderr to this file (tests read it, e.g. to look for secrets). */
+  logFile?: string;
 }): Promise<AppServer> {
   const url = `http://localhost:${options.port}`;
+  const log = options.logFile ? openSync(options.logFile, "a") : null;
   const child = spawn(join(root, "node_modules", ".bin", "next"), [options.mode, "-p", String(options.port)], {
     cwd: root,
     detached: true,
-    stdio: options.quiet ? ["ignore", "ignore", "inherit"] : "inherit",
+    stdio: log !== null ? ["ignore", log, log] : options.quiet ? ["ignore", "ignore", "inherit"] : "inherit",
     env: {
       ...process.env,
       ...options.env,
@@ -50,6 +54,8 @@ export async function startAppServer(options: {
       NEXT_TELEMETRY_DISABLED: "1",
     },
   });
+  // The child holds its own copy of the descriptor.
+  if (log !== null) closeSync(log);
   const stop = () => stopProcessGroup(child);
 
   const deadline = Date.now() + 120_000;
@@ -68,12 +74,14 @@ export async function startAppServer(options: {
 }
 
 /** Starts an ingest worker process (scripts/ingest-worker.ts) in its own process group. */
-export function startIngestWorker(env: Record<string, string> = {}): { stop(): Promise<void> } {
+export function startIngestWorker(env: Record<string, string> = {}, options: { logFile?: string } = {}): { child: ChildProcess; stop(): Promise<void> } {
+  const log = options.logFile ? openSync(options.logFile, "a") : null;
   const child = spawn(join(root, "node_modules", ".bin", "tsx"), ["--conditions=react-server", join(root, "scripts", "ingest-worker.ts")], {
     cwd: root,
     detached: true,
-    stdio: ["ignore", "ignore", "inherit"],
+    stdio: log !== null ? ["ignore", log, log] : ["ignore", "ignore", "inherit"],
     env: { ...process.env, ...env },
   });
-  return { stop: () => stopProcessGroup(child) };
+  if (log !== null) closeSync(log);
+  return { child, stop: () => stopProcessGroup(child) };
 }

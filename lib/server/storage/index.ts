@@ -22,7 +22,10 @@ type Env = Record<string, string | undefined>;
 export function storeFromEnv(env: Env = process.env): BlobStore {
   const driver = env.STORAGE_DRIVER || "local";
   if (driver === "local") {
-    return createLocalStore(resolve(/* turbopackIgnore: true */ process.cwd(), env.STORAGE_DIR || ".data/blobs"));
+    const faultAfter = env.STORAGE_FAULT_AFTER_BYTES ? Number(env.STORAGE_FAULT_AFTER_BYTES) : undefined;
+    return createLocalStore(resolve(/* turbopackIgnore: true */ process.cwd(), env.STORAGE_DIR || ".data/blobs"), {
+      faultAfterBytes: faultAfter !== undefined && Number.isFinite(faultAfter) && faultAfter >= 0 ? faultAfter : undefined,
+    });
   }
   if (driver === "s3") {
     if (!env.S3_BUCKET) throw new Error("STORAGE_DRIVER=s3 needs S3_BUCKET.");
@@ -52,6 +55,7 @@ const STORAGE_ENV = [
   "S3_ACCESS_KEY_ID",
   "S3_SECRET_ACCESS_KEY",
   "S3_FORCE_PATH_STYLE",
+  "STORAGE_FAULT_AFTER_BYTES",
 ] as const;
 
 export function blobStore(): BlobStore {

@@ -2,6 +2,7 @@ import "server-only";
 import { randomUUID } from "node:crypto";
 import { chmod, link, lstat, mkdir, open, readdir, rmdir, stat, unlink, type FileHandle } from "node:fs/promises";
 import { dirname, join, relative, resolve, sep } from "node:path";
+import { Transform } from "node:stream";
 import { pipeline } from "node:stream/promises";
 import { abortError, hashingPassThrough, sha256OfStream, toReadable, type BlobStore } from "./blob-store";
 import { InvalidKeyError, ObjectExistsError, ObjectNotFoundError } from "./errors";
@@ -21,8 +22,28 @@ function errno(error: unknown): string | undefined {
  * link()s it into place: link fails if the name exists, so the exclusive check and the publish are one
  * atomic step and a partial object is never visible under its key.
  */
-export function createLocalStore(dir: string): BlobStore {
+export function createLocalStore(dir: string, options: { faultAfterBytes?: number } = {}): BlobStore {
   const root = resolve(dir);
+  let written = 0;
+
+  /**
+   * Testing aid (STORAGE_FAULT_AFTER_BYTES): behaves like a disk that fills up once this store has
+   * written that many bytes in this process: the write fails with ENOSPC, as fs would.
+   */
+  function diskFullAfterLimit(): Transform {
+    const limit = options.faultAfterBytes;
+    return new Transform({
+      transform(chunk: Buffer, _encoding, callback) {
+        if (limit !== undefined && written + chunk.length > limit) {
+          const error = Object.assign(new Error("ENOSPC: no space left on device, write"), { code: "ENOSPC", errno: -28, syscall: "write" });
+          callback(error);
+          return;
+        }
+        written += chunk.length;
+        callback(null, chunk);
+      },
+    });
+  }
 
   function pathOf(key: string): string {
     assertValidKey(key);
@@ -135,7 +156,7 @@ export function createLocalStore(dir: string): BlobStore {
       const hashing = hashingPassThrough();
       try {
         const handle = await createTemp(key, path, temp);
-        await pipeline(toReadable(body), hashing.stream, handle.createWriteStream(), { signal });
+        await pipeline(toReadable(body), hashing.stream, diskFullAfterLimit(), handle.createWriteStream(), { signal });
         await fsync(temp);
         await chmod(temp, 0o444);
         if (signal?.aborted) throw abortError(signal);
