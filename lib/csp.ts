@@ -33,15 +33,24 @@ export function contentSecurityPolicy({ nonce, dev = false, connectExtra = [], h
   return https ? `${text}; upgrade-insecure-requests` : text;
 }
 
-/** The S3 origin presigned reads come from, when the S3 driver is on. */
+/**
+ * The S3 origins presigned reads come from, when the S3 driver is on. Without path-style URLs
+ * (S3_FORCE_PATH_STYLE unset) the SDK puts the bucket in the host name — `https://<bucket>.<endpoint
+ * host>/key` — except for an IP-address endpoint, which it always addresses path-style; so that
+ * origin is allowed too, or the browser would refuse every read of a virtual-hosted bucket.
+ */
 export function storageOrigins(env: Record<string, string | undefined>): string[] {
   if (env.STORAGE_DRIVER !== "s3") return [];
-  if (env.S3_ENDPOINT) {
-    try {
-      return [new URL(env.S3_ENDPOINT).origin];
-    } catch {
-      return [];
-    }
+  if (!env.S3_ENDPOINT) return ["https://*.amazonaws.com"];
+  let endpoint: URL;
+  try {
+    endpoint = new URL(env.S3_ENDPOINT);
+  } catch {
+    return [];
   }
-  return ["https://*.amazonaws.com"];
+  const pathStyle = env.S3_FORCE_PATH_STYLE === "1" || env.S3_FORCE_PATH_STYLE === "true";
+  const ipAddress = /^\d{1,3}(\.\d{1,3}){3}$/.test(endpoint.hostname) || endpoint.hostname.startsWith("[");
+  if (pathStyle || ipAddress || !env.S3_BUCKET) return [endpoint.origin];
+  const port = endpoint.port ? `:${endpoint.port}` : "";
+  return [endpoint.origin, `${endpoint.protocol}//${env.S3_BUCKET}.${endpoint.hostname}${port}`];
 }
