@@ -962,7 +962,7 @@ export function cancellable(api: BenchApi): BenchWorkerApi {
 }
 
 /** Marks each render's pixel buffer for transfer (comlink's `transfer`), so it is moved, not copied. */
-export function transferringRenders(api: BenchWorkerApi, transfer: <T>(value: T, transferables: Transferable[]) => T): BenchWorkerApi {
+export function transferringRenders<A extends BenchWorkerApi>(api: A, transfer: <T>(value: T, transferables: Transferable[]) => T): A {
   return {
     ...api,
     async renderView(view, requestId) {

@@ -25,7 +25,7 @@ import { PhotoelectronReadout } from "@/components/detectors/photoelectron-reado
 import { FigureDialog } from "./figure-dialog";
 import { HelpOverlay } from "./help-overlay";
 import { SavedViewsMenu, SaveAsMineButton, ShareDialog } from "./share-dialog";
-import { Viewport, type Camera, type ViewportHandle } from "./viewport";
+import { Viewport, type Camera, type PlaneCanvas, type ViewportHandle } from "./viewport";
 // Regions (regions panel + overlay): not offered through view links.
 import { RegionOverlay, useRegionsController } from "./region-overlay";
 import { RegionsPanel } from "./regions-panel";
@@ -109,6 +109,11 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
     started.current = performance.now();
   }, []);
   const viewport = useRef<ViewportHandle>(null);
+  // The viewport's canvas: handed to the worker, which draws every render into it where the browser
+  // can transfer a canvas (see BenchWorkerClient.surfaceFor); a new key asks for a fresh element.
+  const [canvasEl, setCanvasEl] = useState<PlaneCanvas | null>(null);
+  const [canvasKey, setCanvasKey] = useState(0);
+  const readBack = useCallback((x: number, y: number, w: number, h: number) => bench.readCanvas(x, y, w, h), [bench]);
   const storageKey = `bench:${datasetId}`;
   // Zoom and the image point at the centre, saved with the view and restored on return.
   const [camera, setCamera] = useState<Camera | null>(null);
@@ -266,9 +271,16 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
   }, [channels]);
 
   // Render whenever the plane or a mapping changes; a newer render supersedes (aborts) an older one.
+  // The worker draws into the transferred canvas; only without one does the main thread draw.
   useEffect(() => {
-    if (!opened || !channels) return;
+    if (!opened || !channels || !canvasEl) return;
     let stale = false;
+    const surface = bench.surfaceFor(canvasEl);
+    if (surface === "lost") {
+      // Its worker is gone (or refused it): a new element, and this effect runs again for it.
+      queueMicrotask(() => setCanvasKey((k) => k + 1));
+      return;
+    }
     bench
       .render({
         z,
@@ -281,6 +293,11 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
       })
       .then((result) => {
         if (stale) return;
+        if (surface === "worker" && !result.drawn) {
+          // The worker could not take the canvas: continue on a new one, drawn by the main thread.
+          setCanvasKey((k) => k + 1);
+          return;
+        }
         setRendered(result);
         setError(null);
         viewport.current?.draw(result);
@@ -293,7 +310,7 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
     return () => {
       stale = true;
     };
-  }, [bench, opened, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady, lowMarkMode, lowMarkPercent, highMarkPercent, customTables.registered]);
+  }, [bench, opened, canvasEl, channels, z, t, composite, marks, markColours, cvd, correction.on, correctionReady, lowMarkMode, lowMarkPercent, highMarkPercent, customTables.registered]);
 
   // Loads the chosen flat-field and dark frames into the worker (one plane each, by their stored IFD offsets).
   useEffect(() => {
@@ -680,7 +697,7 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
                 </span>
               ))}
             </div>
-            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={showScaleBar ? pixelSize : null} onPointer={onPointer} onCameraChange={setCamera} overlay={link ? undefined : (view) => <RegionOverlay ctl={regions} view={view} width={dataset.width ?? 1} height={dataset.height ?? 1} />} />
+            <Viewport ref={viewport} width={dataset.width ?? 1} height={dataset.height ?? 1} pixelSizeUm={showScaleBar ? pixelSize : null} onPointer={onPointer} onCameraChange={setCamera} onCanvas={setCanvasEl} canvasKey={canvasKey} readBack={readBack} overlay={link ? undefined : (view) => <RegionOverlay ctl={regions} view={view} width={dataset.width ?? 1} height={dataset.height ?? 1} />} />
             {showTime && dataset.timeIncrement != null && (
               <span className="num pointer-events-none absolute right-4 top-2 z-10 text-sm text-white" aria-label="Time stamp on the image">
                 {formatTime(t * dataset.timeIncrement)}

@@ -14,8 +14,16 @@ export interface Camera {
   pan: ImagePoint;
 }
 
+/**
+ * The plane's canvas element. `readPixels` reads back what is drawn on it, wherever it is drawn: a
+ * canvas transferred to the bench worker has no 2D context on the main thread, so tests and tools
+ * read through this instead of getContext("2d").getImageData.
+ */
+export type PlaneCanvas = HTMLCanvasElement & { readPixels?: (x: number, y: number, width: number, height: number) => Promise<Uint8ClampedArray> };
+
 export interface ViewportHandle {
-  draw(frame: { width: number; height: number; rgba: Uint8ClampedArray }): void;
+  /** Shows a frame: draws it here, or (`drawn`) only counts it when the worker drew it into the transferred canvas. */
+  draw(frame: { width: number; height: number; rgba: Uint8ClampedArray; drawn?: boolean }): void;
   zoomBy(factor: number): void;
   fit(): void;
   oneToOne(): void;
@@ -38,6 +46,15 @@ interface Props {
    * screen = image · scale + (x, y), in CSS pixels relative to the box.
    */
   overlay?: (view: { scale: number; x: number; y: number }) => ReactNode;
+  /** Told the canvas element (null when it goes), so the bench can hand it to the worker. */
+  onCanvas?: (canvas: PlaneCanvas | null) => void;
+  /**
+   * A new value puts a new canvas element in place: a canvas can be transferred to a worker only
+   * once, so a worker that stopped takes its canvas with it. A new plane size also makes a new one.
+   */
+  canvasKey?: number;
+  /** Reads back a rectangle of a canvas the worker draws into (PlaneCanvas.readPixels). */
+  readBack?: (x: number, y: number, width: number, height: number) => Promise<Uint8ClampedArray>;
 }
 
 const MAX_SCALE = 32;
@@ -53,9 +70,33 @@ export function niceScaleBar(umPerScreenPx: number): { um: number; px: number } 
 
 const MIN_SCALE = 0.05;
 
-export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ width, height, pixelSizeUm, onPointer, onCameraChange, overlay }, ref) {
+export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ width, height, pixelSizeUm, onPointer, onCameraChange, overlay, onCanvas, canvasKey = 0, readBack }, ref) {
   const box = useRef<HTMLDivElement>(null);
-  const canvas = useRef<HTMLCanvasElement>(null);
+  const canvas = useRef<PlaneCanvas | null>(null);
+  const onCanvasRef = useRef(onCanvas);
+  const readBackRef = useRef(readBack);
+  // Whether the last frame on this element was drawn by the worker (the element is then a placeholder).
+  const drawnInWorker = useRef(false);
+  useEffect(() => {
+    onCanvasRef.current = onCanvas;
+    readBackRef.current = readBack;
+  }, [onCanvas, readBack]);
+  const setCanvas = useCallback((element: PlaneCanvas | null) => {
+    canvas.current = element;
+    drawnInWorker.current = false;
+    if (element) {
+      element.readPixels = async (x, y, w, h) => {
+        if (drawnInWorker.current) {
+          if (!readBackRef.current) throw new Error("This canvas is drawn by the worker and nothing reads it back");
+          return readBackRef.current(x, y, w, h);
+        }
+        const ctx = element.getContext("2d");
+        if (!ctx) throw new Error("No 2D context on the plane canvas");
+        return ctx.getImageData(x, y, w, h).data;
+      };
+    }
+    onCanvasRef.current?.(element);
+  }, []);
   const [view, setView] = useState({ scale: 1, x: 0, y: 0 });
   const drag = useRef<{ x: number; y: number; vx: number; vy: number } | null>(null);
   // Until the person zooms or pans (or a saved camera is restored), a resize fits the image again;
@@ -104,10 +145,19 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
     ref,
     () => ({
       draw(frame) {
-        const ctx = canvas.current?.getContext("2d");
-        if (!ctx || !canvas.current) return;
+        const element = canvas.current;
+        if (!element) return;
         // Counts drawn frames, so playback speed can be measured from outside (tests/bench/browser.ts).
-        canvas.current.dataset.frames = String(Number(canvas.current.dataset.frames ?? 0) + 1);
+        const count = () => (element.dataset.frames = String(Number(element.dataset.frames ?? 0) + 1));
+        drawnInWorker.current = Boolean(frame.drawn);
+        if (frame.drawn) {
+          count();
+          return;
+        }
+        // The fallback: the main thread draws the worker's pixels.
+        const ctx = element.getContext("2d");
+        if (!ctx) return;
+        count();
         ctx.putImageData(new ImageData(new Uint8ClampedArray(frame.rgba.buffer as ArrayBuffer, frame.rgba.byteOffset, frame.rgba.byteLength), frame.width, frame.height), 0, 0);
       },
       zoomBy: (factor) => zoomAt(factor),
@@ -185,7 +235,8 @@ export const Viewport = forwardRef<ViewportHandle, Props>(function Viewport({ wi
       onDoubleClick={fitView}
     >
       <canvas
-        ref={canvas}
+        key={`${width}x${height}:${canvasKey}`}
+        ref={setCanvas}
         width={width}
         height={height}
         aria-label="Image plane"

@@ -1,8 +1,21 @@
 "use client";
 
-import { proxy, releaseProxy, wrap, type Endpoint, type Remote } from "comlink";
+import { proxy, releaseProxy, transfer, wrap, type Endpoint, type Remote } from "comlink";
 import { useEffect, useState } from "react";
-import type { PercentileOptions, BenchOpenArgs, BenchRender, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, CustomTableRef, RawValue, RegionOptions, RegionRef, RegionResult, TraceRequest, TraceResult } from "@/workers/bench-api";
+import type { PercentileOptions, BenchOpenArgs, BenchView, BenchWorkerApi, CorrectionArgs, CorrectionInfo, CustomTableRef, RawValue, RegionOptions, RegionRef, RegionResult, TraceRequest, TraceResult } from "@/workers/bench-api";
+import type { DrawingApi, SurfaceCanvas, SurfaceRender } from "@/workers/bench-surface";
+
+/** What the worker speaks: the pixel API plus drawing into a transferred canvas. */
+type WorkerApi = DrawingApi<BenchWorkerApi>;
+
+/**
+ * Where the frames for a canvas are drawn: "worker" (the canvas was transferred to the running
+ * worker, which draws every render into it), "main" (this browser cannot transfer a canvas, or the
+ * worker could not draw: the main thread draws the returned pixels), or "lost" (the canvas went to
+ * a worker that has stopped since, e.g. React StrictMode's second effect run in development, or
+ * the worker could not take it): a canvas can be transferred only once, so a new element is needed.
+ */
+export type CanvasSurface = "worker" | "main" | "lost";
 
 /** A worker failure, with what the bench was doing in the message; the worker's error is `cause`. */
 export class BenchWorkerError extends Error {
@@ -36,7 +49,12 @@ interface Pending {
  */
 export class BenchWorkerClient {
   private endpoint: BenchEndpoint | null = null;
-  private remote: Remote<BenchWorkerApi> | null = null;
+  private remote: Remote<WorkerApi> | null = null;
+  /** Counts started workers: a canvas belongs to the worker it was transferred to. */
+  private connection = 0;
+  private readonly canvases = new WeakMap<HTMLCanvasElement, { connection: number; failed: boolean }>();
+  /** Set once the worker refused a canvas: later canvases stay on the main thread. */
+  private offscreenFailed = false;
   private nextId = 0;
   private readonly pending = new Set<Pending>();
   private lastRender: AbortController | null = null;
@@ -45,9 +63,10 @@ export class BenchWorkerClient {
 
   constructor(private readonly create: () => BenchEndpoint = startWorker) {}
 
-  private connect(): Remote<BenchWorkerApi> {
+  private connect(): Remote<WorkerApi> {
     if (this.remote) return this.remote;
     const endpoint = this.create();
+    this.connection++;
     // A worker script that fails to load or throws at top level answers nothing: fail the waiters.
     endpoint.addEventListener("error", ((event: Event) => {
       const detail = (event as { message?: unknown }).message;
@@ -55,7 +74,7 @@ export class BenchWorkerClient {
       this.failAll(new BenchWorkerError(`The bench worker stopped: ${message}`));
     }) as EventListener);
     this.endpoint = endpoint;
-    this.remote = wrap<BenchWorkerApi>(endpoint);
+    this.remote = wrap<WorkerApi>(endpoint);
     return this.remote;
   }
 
@@ -75,7 +94,7 @@ export class BenchWorkerClient {
     this.endpoint = null;
   }
 
-  private call<T>(what: string, signal: AbortSignal | undefined, run: (remote: Remote<BenchWorkerApi>, id: number) => Promise<T>): Promise<T> {
+  private call<T>(what: string, signal: AbortSignal | undefined, run: (remote: Remote<WorkerApi>, id: number) => Promise<T>): Promise<T> {
     if (signal?.aborted) return Promise.reject(abortReason(signal));
     const remote = this.connect();
     const id = ++this.nextId;
@@ -123,7 +142,7 @@ export class BenchWorkerClient {
    * Renders a view; a newer render aborts the one before (scrubbing). The newer request is posted
    * before the older is cancelled, so a plane both need keeps loading instead of starting over.
    */
-  render(view: BenchView, signal?: AbortSignal): Promise<BenchRender> {
+  render(view: BenchView, signal?: AbortSignal): Promise<SurfaceRender> {
     const previous = this.lastRender;
     const own = new AbortController();
     this.lastRender = own;
@@ -131,6 +150,38 @@ export class BenchWorkerClient {
     const result = this.call(`rendering z ${view.z}, t ${view.t}`, combined, (r, id) => r.renderView(view, id));
     previous?.abort(new DOMException("Superseded by a newer view", "AbortError"));
     return result;
+  }
+
+  /**
+   * Decides where this canvas's frames are drawn (see CanvasSurface). The first call for a canvas
+   * transfers it to the worker where the browser allows (HTMLCanvasElement.transferControlToOffscreen);
+   * messages on one port arrive in order, so a render asked for next is drawn into it.
+   */
+  surfaceFor(canvas: HTMLCanvasElement): CanvasSurface {
+    const known = this.canvases.get(canvas);
+    if (known) return !known.failed && known.connection === this.connection && this.remote ? "worker" : "lost";
+    if (this.offscreenFailed || typeof canvas.transferControlToOffscreen !== "function") return "main";
+    const remote = this.connect();
+    let offscreen: OffscreenCanvas;
+    try {
+      offscreen = canvas.transferControlToOffscreen();
+    } catch {
+      // E.g. the canvas already has a 2D context here: it stays on the main thread.
+      this.offscreenFailed = true;
+      return "main";
+    }
+    const entry = { connection: this.connection, failed: false };
+    this.canvases.set(canvas, entry);
+    remote.attachCanvas(transfer(offscreen as unknown as SurfaceCanvas, [offscreen])).catch(() => {
+      entry.failed = true;
+      this.offscreenFailed = true;
+    });
+    return "worker";
+  }
+
+  /** RGBA bytes of a rectangle of the worker's canvas (what is on screen, at plane resolution). */
+  readCanvas(x: number, y: number, width: number, height: number): Promise<Uint8ClampedArray> {
+    return this.call("reading the drawn plane back", undefined, (r) => r.readCanvas(x, y, width, height));
   }
 
   readValues(z: number, t: number, x: number, y: number, signal?: AbortSignal): Promise<RawValue[]> {

@@ -6,6 +6,7 @@ import { readFileSync } from "node:fs";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadStackFixture, PERCENTS, type StackFixture } from "../imaging/stack-fixture";
 import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
+import { planePixelHex } from "../helpers/canvas";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { PYTHON, run, tempDir } from "../helpers/tiff-tools";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
@@ -135,12 +136,7 @@ describe("the bench", () => {
     const high = (await legend.getAttribute("aria-label"))!.match(/Ceiling marked (#[0-9a-fA-F]{6})/)![1].toLowerCase();
     // In the fixture, membrane pixels (x 0…6, y 0…2) of z 0, t 0 are at the 4095 ceiling.
     await expect
-      .poll(async () =>
-        page.getByLabel("Image plane").evaluate((canvas: HTMLCanvasElement) => {
-          const [r, g, b] = canvas.getContext("2d")!.getImageData(1, 1, 1, 1).data;
-          return `#${[r, g, b].map((v) => v.toString(16).padStart(2, "0")).join("")}`;
-        }),
-      )
+      .poll(() => planePixelHex(page.getByLabel("Image plane"), 1, 1))
       .toBe(high);
     await page.getByRole("region", { name: "Channel membrane" }).getByRole("spinbutton", { name: "Gamma" }).fill("0.8");
     await page.getByText("membrane: gamma 0.8 (non-linear)").waitFor();

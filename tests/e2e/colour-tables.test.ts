@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { buildTableFromStops, tableToCsv } from "@/lib/imaging/table-editor";
 import { loadStackFixture, type StackFixture } from "../imaging/stack-fixture";
 import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
+import { readPlanePixels } from "../helpers/canvas";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { tempDir } from "../helpers/tiff-tools";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
@@ -139,9 +140,7 @@ describe("the Colour tables page", () => {
     ).rgb.subarray(765);
     const hex = (rgb: ArrayLike<number>) => `#${Array.from(rgb, (v) => v.toString(16).padStart(2, "0")).join("")}`;
     await expect
-      .poll(async () =>
-        page.getByLabel("Image plane").evaluate((canvas: HTMLCanvasElement) => Array.from(canvas.getContext("2d")!.getImageData(1, 1, 1, 1).data.slice(0, 3))),
-      )
+      .poll(async () => (await readPlanePixels(page.getByLabel("Image plane"), 1, 1, 1, 1)).slice(0, 3))
       .toEqual(Array.from(last));
     expect(hex(last)).toBe("#f4eba6");
     await screenshot(page, "colour-tables-05-bench");

@@ -18,6 +18,7 @@ import { readTextChunks } from "@/lib/imaging/png-text";
 import { FIGURE_SIDECAR_KEYWORD, figureSidecar, type FigureSidecar } from "@/lib/schemas/figure-sidecar";
 import { loadStackFixture, type StackFixture } from "../imaging/stack-fixture";
 import { openBrowser, type Person, screenshot, screenshotDir, signIn } from "../helpers/browser";
+import { readPlanePixels } from "../helpers/canvas";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
 import { PYTHON, run, tempDir } from "../helpers/tiff-tools";
 import { uploadFile, waitForIngest } from "../helpers/uploads";
@@ -110,10 +111,11 @@ async function readDownload(d: Download): Promise<Buffer> {
   return readFileSync(path);
 }
 
-/** The on-screen canvas of the bench, as RGBA bytes. */
+/** The on-screen canvas of the bench (drawn by the bench worker where it can be), as RGBA bytes. */
 async function screenPixels(page: Page): Promise<Buffer> {
-  const bytes = await page.getByLabel("Image plane").evaluate((canvas: HTMLCanvasElement) => Array.from(canvas.getContext("2d")!.getImageData(0, 0, canvas.width, canvas.height).data));
-  return Buffer.from(bytes);
+  const canvas = page.getByLabel("Image plane");
+  const [width, height] = await canvas.evaluate((c: HTMLCanvasElement) => [c.width, c.height]);
+  return Buffer.from(await readPlanePixels(canvas, 0, 0, width, height));
 }
 
 async function setPoints(page: Page, name: string, black: number, white: number) {
