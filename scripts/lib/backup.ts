@@ -148,6 +148,9 @@ export async function verifyBackup(dir: string): Promise<Manifest> {
 export async function restore(options: { fromDir: string; db: DbSettings; storage: StorageEnv; log?: (line: string) => void }): Promise<{ tables: number; objects: number; datasets: number }> {
   const log = options.log ?? (() => undefined);
   const manifest = await verifyBackup(options.fromDir);
+  // Both targets are checked before anything is created, so a refusal leaves nothing behind.
+  const store = storeFromEnv(options.storage);
+  if ((await store.list("")).length > 0) throw new RestoreError("The blob store is not empty; restore only into an empty one.");
   const conn = await mariadb.createConnection({ host: options.db.host, port: options.db.port, user: options.db.user, password: options.db.password });
   try {
     await conn.query(`CREATE DATABASE IF NOT EXISTS ${conn.escapeId(options.db.name)} CHARACTER SET utf8mb4 COLLATE utf8mb4_unicode_ci`);
@@ -156,8 +159,6 @@ export async function restore(options: { fromDir: string; db: DbSettings; storag
   } finally {
     await conn.end();
   }
-  const store = storeFromEnv(options.storage);
-  if ((await store.list("")).length > 0) throw new RestoreError("The blob store is not empty; restore only into an empty one.");
 
   log("» Loading the database dump…");
   await run(client("mariadb"), [`--host=${options.db.host}`, `--port=${options.db.port}`, `--user=${options.db.user}`, options.db.name], {
