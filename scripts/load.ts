@@ -53,6 +53,8 @@ try {
   const view = JSON.stringify({ z: 0, t: 2, blend: "add", channels: [{ c: 0, visible: true, colour: "#00ff00", tableId: null, gamma: 1, black: 10, white: 4000 }, { c: 1, visible: true, colour: "#ff00ff", tableId: null, gamma: 1, black: 5, white: 3000 }] });
 
   const calls = [
+    // The floor this machine and framework allow: no session, no access checks, one `SELECT 1`.
+    { name: "baseline: health check (no session, SELECT 1)", method: "GET", path: "/api/health", headers: { "x-forwarded-for": person.address } },
     { name: "dataset listing", method: "GET", path: `/api/labs/${labId}/datasets`, headers },
     { name: "dataset metadata", method: "GET", path: `/api/datasets/${datasetId}`, headers },
     { name: "view-state save", method: "PUT", path: `/api/datasets/${datasetId}/view`, headers: { ...headers, "content-type": "application/json" }, body: view },
