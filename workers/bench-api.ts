@@ -19,7 +19,7 @@ import { percentiles as percentilesFromHistogram } from "../lib/imaging/percenti
 import { PlaneCache } from "../lib/imaging/plane-cache";
 import { lineProfile, regionMask, regionStats, statsInElectrons, traceInElectrons, tracePoint, type AreaShape, type DetectorScale, type RegionShape, type RegionStats } from "../lib/imaging/regions";
 import { compactHistogram, type CompactHistogram } from "../lib/imaging/summary";
-import type { ByteSource } from "../lib/tiff/byte-source";
+import { readAheadSource, type ByteSource } from "../lib/tiff/byte-source";
 import { decodePlane } from "../lib/tiff/decode";
 import { httpSource } from "../lib/tiff/http-source";
 import { readTiffHeader, type TiffHeader } from "../lib/tiff/structure";
@@ -219,6 +219,8 @@ interface Correction {
 interface Session {
   args: BenchOpenArgs;
   source: ByteSource;
+  /** The same file through readAheadSource: a plane's IFD and tag arrays in one request. */
+  metadata: ByteSource;
   header: TiffHeader;
   byPosition: Map<string, BenchPlaneRef>;
   channels: number[];
@@ -563,7 +565,7 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
     return cache.get(
       { datasetId: s.args.datasetId, ifdIndex: ref.ifdIndex },
       async (loadSignal) => {
-        const plane = await decodePlane(s.source, ref.ifdOffset, { header: s.header, signal: loadSignal });
+        const plane = await decodePlane(s.source, ref.ifdOffset, { header: s.header, signal: loadSignal, metadataSource: s.metadata });
         const where = `plane ${ref.ifdIndex} (channel ${ref.c}, z ${ref.z}, t ${ref.t})`;
         if (plane.width !== s.args.width || plane.height !== s.args.height) {
           throw new BenchError(`${where} is ${plane.width} × ${plane.height} pixels; the dataset says ${s.args.width} × ${s.args.height}`);
@@ -673,6 +675,8 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
       session = {
         args,
         source,
+        // One request for a plane's IFD and tag arrays, one for its pixels (lib/tiff/byte-source.ts).
+        metadata: readAheadSource(source),
         header,
         byPosition,
         channels: [...new Set(args.planes.map((p) => p.c))].sort((a, b) => a - b),

@@ -91,3 +91,49 @@ export function windowedSource(inner: ByteSource, options: WindowedSourceOptions
     },
   };
 }
+
+export interface ReadAheadOptions {
+  /** Reads of at most this many bytes go through the window cache; larger ones go straight through. Default 4 KiB. */
+  smallRead?: number;
+  /** Window size for the small reads. Default 16 KiB. */
+  windowSize?: number;
+  /** Windows kept. Default 64. */
+  maxWindows?: number;
+}
+
+/**
+ * Opening a plane by its IFD offset takes several small reads one after the other (the entry count,
+ * the entries, then the strip or tile offset and byte-count arrays), which writers place side by
+ * side. Over HTTP each would be a request of its own; through this wrapper they come from one cached
+ * window, so a plane costs one request for its metadata (pass it as decodePlane's metadataSource).
+ * Large reads go straight through. A window is fetched with the signal of the read that asked first;
+ * if that read is cancelled while another still waits for the same window (a newer render sharing a
+ * plane with a cancelled prefetch), the waiting read fetches it again rather than failing.
+ */
+export function readAheadSource(inner: ByteSource, options: ReadAheadOptions = {}): ByteSource & { readonly underlyingReads: number } {
+  const smallRead = options.smallRead ?? 4096;
+  const windows = windowedSource(inner, { windowSize: options.windowSize ?? 16384, maxWindows: options.maxWindows ?? 64 });
+  let direct = 0;
+  return {
+    size: inner.size,
+    get underlyingReads() {
+      return windows.underlyingReads + direct;
+    },
+    async read(offset, length, signal) {
+      if (length > smallRead) {
+        direct++;
+        return inner.read(offset, length, signal);
+      }
+      for (let attempt = 0; ; attempt++) {
+        try {
+          const bytes = await windows.read(offset, length, signal);
+          throwIfAborted(signal);
+          return bytes;
+        } catch (error) {
+          const cancelledForAnother = error instanceof Error && error.name === "AbortError" && !signal?.aborted;
+          if (!cancelledForAnother || attempt >= 2) throw error;
+        }
+      }
+    },
+  };
+}

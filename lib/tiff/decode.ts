@@ -21,6 +21,12 @@ export interface DecodeOptions {
    * off the main thread then overlaps other blocks' inflates and the caller's counting.
    */
   inflate?: Inflate;
+  /**
+   * Where the IFD and its tag arrays are read from, when not `source`: e.g. a read-ahead wrapper of
+   * it (readAheadSource), so the several small metadata reads cost one request while pixel reads
+   * still go straight to `source` and can be cancelled.
+   */
+  metadataSource?: ByteSource;
 }
 
 export type Inflate = (block: Uint8Array, expectedBytes: number) => Uint8Array | Promise<Uint8Array>;
@@ -48,7 +54,7 @@ export async function decodePlane(source: ByteSource, ifdOffset: number, options
   if (!Number.isSafeInteger(ifdOffset) || ifdOffset < 8 || ifdOffset >= source.size) {
     throw new TiffFormatError(`No IFD can start at byte ${ifdOffset} of a ${source.size}-byte file`);
   }
-  const ifd = await readIfdAt(source, header, ifdOffset, { description: false, signal: options.signal });
+  const ifd = await readIfdAt(options.metadataSource ?? source, header, ifdOffset, { description: false, signal: options.signal });
   return decodeIfd(source, header, ifd, options.signal, options.inflate);
 }
 

@@ -42,7 +42,12 @@ export async function startAppServer(options: {
 }): Promise<AppServer> {
   const url = `http://localhost:${options.port}`;
   const log = options.logFile ? openSync(options.logFile, "a") : null;
-  const child = spawn(join(root, "node_modules", ".bin", "next"), [options.mode, "-p", String(options.port)], {
+  // Idle keep-alive connections stay open for 65 s instead of Node's 5 s: a client whose event loop
+  // was busy for a few seconds (a load balancer, or a test that just generated a large file) would
+  // otherwise send its next request on a socket the server is closing, and get "other side closed".
+  // 65 s outlasts the common 60 s idle timeout of load balancers (common practice).
+  const keepAlive = options.mode === "start" ? ["--keepAliveTimeout", "65000"] : [];
+  const child = spawn(join(root, "node_modules", ".bin", "next"), [options.mode, "-p", String(options.port), ...keepAlive], {
     cwd: root,
     detached: true,
     stdio: log !== null ? ["ignore", log, log] : options.quiet ? ["ignore", "ignore", "inherit"] : "inherit",
