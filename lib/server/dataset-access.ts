@@ -21,13 +21,13 @@ export function withDataset(
   return async (request: NextRequest, context: { params: Promise<Params> }) => {
     try {
       const params = await context.params;
-      await requireUser();
+      const user = await requireUser();
       const id = idParam.safeParse(params.datasetId);
       if (!id.success) throw notFound("That dataset");
       const row = await db().Dataset.findByPk(id.data, { attributes: ["id", "labId"] });
       if (!row) throw notFound("That dataset");
       // A non-member gets the same 404 as for an id that does not exist, so existence does not leak.
-      const access = await requireLabAccess(row.labId, options.need).catch((error: unknown) => {
+      const access = await requireLabAccess(row.labId, options.need, user).catch((error: unknown) => {
         throw error instanceof HttpError && error.status === 404 ? notFound("That dataset") : error;
       });
       const dataset = await findDataset(row.labId, row.id, { deleted: options.includeDeleted });
