@@ -10,7 +10,8 @@ import { quantileSorted } from "d3-array";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { createRandom } from "@/lib/imaging/random";
 import { DEMO_CAMERA, DEMO_CHANNELS, exposeCamera, makeScene, renderSignal } from "@/lib/imaging/synthetic";
-import { omeXml, writeTiff } from "@/lib/tiff/writer";
+import { demoOmeXml } from "@/lib/server/demo/generate";
+import { writeTiff } from "@/lib/tiff/writer";
 import { openBrowser, type Person, screenshot, signIn } from "../helpers/browser";
 import { readPlanePixels } from "../helpers/canvas";
 import { labWithMembers, type LabWithMembers } from "../helpers/http";
@@ -49,22 +50,7 @@ async function demoStack(): Promise<Uint8Array> {
       }
     }
   }
-  const description = omeXml({
-    name: TITLE,
-    sizeX: W,
-    sizeY: H,
-    sizeZ: Z,
-    sizeC: C,
-    sizeT: T,
-    order: "XYZCT",
-    type: "uint16",
-    significantBits: 12,
-    physicalSizeX: 0.1625,
-    physicalSizeY: 0.1625,
-    physicalSizeZ: 0.5,
-    timeIncrement: 30,
-    channels: DEMO_CHANNELS.map((c) => ({ name: c.name, emissionWavelength: c.emissionWavelength, color: c.color })),
-  });
+  const description = demoOmeXml({ name: TITLE, sizeX: W, sizeY: H, sizeZ: Z, sizeC: C, sizeT: T });
   return writeTiff(ordered, { width: W, height: H, bitsPerSample: 16, description });
 }
 

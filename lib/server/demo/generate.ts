@@ -162,6 +162,25 @@ async function readManifest(dir: string): Promise<Record<string, number>> {
 }
 
 /**
+ * The OME-XML of a demo stack in XYZCT order: the demo channels, 12 significant bits, and invented
+ * optics (6.5 µm camera pixels behind a 40× objective, 0.5 µm z steps, a frame every 30 s). Also used
+ * by tests that write a small stack the way the demo does.
+ */
+export function demoOmeXml(size: { name: string; sizeX: number; sizeY: number; sizeZ: number; sizeC: number; sizeT: number }): string {
+  return omeXml({
+    ...size,
+    order: "XYZCT",
+    type: "uint16",
+    significantBits: 12,
+    physicalSizeX: 0.1625,
+    physicalSizeY: 0.1625,
+    physicalSizeZ: 0.5,
+    timeIncrement: 30,
+    channels: DEMO_CHANNELS.map((c) => ({ name: c.name, emissionWavelength: c.emissionWavelength, color: c.color })),
+  });
+}
+
+/**
  * Writes the demo files into `dir` (created if needed). Idempotent: a file that exists with the
  * expected size is kept (uncompressed sizes are computed; the Deflate file's size comes from the
  * manifest written after it). Returns every file with its size and whether it was written now.
@@ -191,23 +210,7 @@ export async function writeDemoFiles(dir: string): Promise<DemoResult[]> {
     const scene = makeScene({ width: SIZE, height: SIZE, sizeZ: f.sizeZ, sizeT: f.sizeT, channels: DEMO_CHANNELS, cellCount: 40, overBrightCells: 3, seed, response });
     const options: TiffWriteOptions = {
       ...base,
-      description: omeXml({
-        name: f.title,
-        sizeX: SIZE,
-        sizeY: SIZE,
-        sizeZ: f.sizeZ,
-        sizeC: f.sizeC,
-        sizeT: f.sizeT,
-        order: "XYZCT",
-        type: "uint16",
-        significantBits: 12,
-        // Invented optics: 6.5 µm camera pixels behind a 40× objective; 0.5 µm z steps; a frame every 30 s.
-        physicalSizeX: 0.1625,
-        physicalSizeY: 0.1625,
-        physicalSizeZ: 0.5,
-        timeIncrement: 30,
-        channels: DEMO_CHANNELS.map((c) => ({ name: c.name, emissionWavelength: c.emissionWavelength, color: c.color })),
-      }),
+      description: demoOmeXml({ name: f.title, sizeX: SIZE, sizeY: SIZE, sizeZ: f.sizeZ, sizeC: f.sizeC, sizeT: f.sizeT }),
     };
     await ensure(f, uncompressedTiffSize(f.sizeZ * f.sizeC * f.sizeT, options), (path) => {
       function* coords() {
