@@ -1,6 +1,6 @@
 import { readFileSync, writeFileSync } from "node:fs";
 import { deflateSync, inflateSync } from "node:zlib";
-import { afterAll, afterEach, beforeEach, describe, expect, test } from "vitest";
+import { afterAll, describe, expect, test } from "vitest";
 import { histogram16 } from "@/lib/imaging/histogram";
 import { summariseForCeilings } from "@/lib/imaging/summary";
 import { checkPlanes, IngestError, ingestPlanes } from "@/lib/server/ingest";
@@ -11,6 +11,7 @@ import { readTiffStructure } from "@/lib/tiff/structure";
 import { writeTiff } from "@/lib/tiff/writer";
 import { buildTiff } from "@/tests/tiff/fuzz-seeds";
 import { tempDir, tiffcp } from "@/tests/helpers/tiff-tools";
+import { collectUnhandledRejections } from "@/tests/helpers/unhandled";
 
 const tmp = tempDir("ingest-scan");
 afterAll(() => tmp.remove());
@@ -84,15 +85,7 @@ describe("ingestPlanes: inflate on the thread pool, planes decoding ahead", () =
 });
 
 describe("a corrupt Deflate block at ingest", () => {
-  const unhandled: unknown[] = [];
-  const onUnhandled = (reason: unknown) => unhandled.push(reason);
-  beforeEach(() => {
-    unhandled.length = 0;
-    process.on("unhandledRejection", onUnhandled);
-  });
-  afterEach(() => {
-    process.off("unhandledRejection", onUnhandled);
-  });
+  const unhandled = collectUnhandledRejections();
 
   test("fails with an IngestError naming the plane and zlib's reason, the one-core scan's message, and no unhandled rejection", async () => {
     const bytes = await writeTiff(PLANES, { width: W, height: H, bitsPerSample: 16, rowsPerStrip: 5, compression: "deflate", compress: (b) => deflateSync(b), predictor: true });

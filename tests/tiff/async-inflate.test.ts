@@ -1,12 +1,13 @@
 import { readFileSync, writeFileSync } from "node:fs";
 import { deflateSync, inflateSync } from "node:zlib";
-import { afterAll, afterEach, beforeEach, describe, expect, test } from "vitest";
+import { afterAll, describe, expect, test } from "vitest";
 import { bufferSource } from "@/lib/tiff/byte-source";
 import { BLOCK_WINDOW_BYTES, decodeIfd, type Inflate } from "@/lib/tiff/decode";
 import { scanPlanes } from "@/lib/tiff/scan";
 import { readTiffStructure, TiffFormatError } from "@/lib/tiff/structure";
 import { writeTiff } from "@/lib/tiff/writer";
 import { tempDir, tiffcp } from "@/tests/helpers/tiff-tools";
+import { collectUnhandledRejections } from "@/tests/helpers/unhandled";
 
 const tmp = tempDir("async-inflate");
 afterAll(() => tmp.remove());
@@ -120,15 +121,7 @@ describe("the block window", () => {
 });
 
 describe("a damaged block", () => {
-  const unhandled: unknown[] = [];
-  const onUnhandled = (reason: unknown) => unhandled.push(reason);
-  beforeEach(() => {
-    unhandled.length = 0;
-    process.on("unhandledRejection", onUnhandled);
-  });
-  afterEach(() => {
-    process.off("unhandledRejection", onUnhandled);
-  });
+  const unhandled = collectUnhandledRejections();
 
   test("fails with the error of the first failing block in reading order, even when a later one fails first", async () => {
     const bytes = await writeTiff([PLANES[0]], { width: W, height: H, bitsPerSample: 16, rowsPerStrip: 3, compression: "deflate", compress: (b) => deflateSync(b) });
