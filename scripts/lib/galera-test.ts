@@ -12,8 +12,8 @@ import { Client } from "../../tests/helpers/http";
 import { startAppServer, type AppServer } from "./app-server";
 import { buildIfNeeded } from "./build";
 import { dbSettings } from "./env";
-import { GALERA_NODES, clusterAppPort, clusterDir, dbHostsValue, nodeFor, nodeStatus, portsFor, rootConnection, startCluster, startNode, stopCluster, stopNode, waitForClusterSize } from "./galera";
-import { prepareDatabase } from "./mariadb";
+import { GALERA_NODES, clusterAppPort, clusterDir, dbHostsValue, nodeFor, nodeStatus, portsFor, startCluster, startNode, stopCluster, stopNode, waitForClusterSize } from "./galera";
+import { prepareDatabase, rootConnection } from "./mariadb";
 
 export interface GaleraTestSummary {
   acknowledged: number;

@@ -8,10 +8,9 @@ import { spawn, spawnSync } from "node:child_process";
 import { createHash } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
-import mariadb from "mariadb";
 import { root } from "./env";
-import type { Instance } from "./mariadb";
-import { ensureDebianPackages, findExecutable } from "./system";
+import { logTail, rootConnection, type Instance } from "./mariadb";
+import { ensureDebianPackages, findExecutable, waitForExit } from "./system";
 
 export const GALERA_PROVIDER = "/usr/lib/galera/libgalera_smm.so";
 export const GALERA_NODES = [1, 2, 3] as const;
@@ -136,10 +135,6 @@ function ensureInstalled(): { server: string; installDb: string } {
   return { server: findExecutable("mariadbd")!, installDb: findExecutable("mariadb-install-db")! };
 }
 
-export function rootConnection(node: GaleraNode) {
-  return mariadb.createConnection({ socketPath: node.socket, user: "root", connectTimeout: 1000 });
-}
-
 /** wsrep status of one node, or null when it does not answer. */
 export async function nodeStatus(node: GaleraNode): Promise<{ clusterSize: number; ready: boolean; state: string; primary: boolean } | null> {
   if (!existsSync(node.socket)) return null;
@@ -157,10 +152,6 @@ export async function nodeStatus(node: GaleraNode): Promise<{ clusterSize: numbe
   } catch {
     return null;
   }
-}
-
-function tail(file: string, lines = 20): string {
-  return existsSync(file) ? readFileSync(file, "utf8").split("\n").slice(-lines).join("\n") : "(no log)";
 }
 
 function pidOf(node: GaleraNode): number | null {
@@ -212,7 +203,7 @@ export async function startNode(n: number, options: { bootstrap?: boolean; timeo
     if (child.exitCode !== null) break;
     await new Promise((r) => setTimeout(r, 250));
   }
-  throw new Error(`Galera node ${n} did not become ready on port ${node.port}. Last lines of ${node.logFile}:\n${tail(node.logFile)}`);
+  throw new Error(`Galera node ${n} did not become ready on port ${node.port}. Last lines of ${node.logFile}:\n${logTail(node.logFile, 20)}`);
 }
 
 /** Waits until every listed node reports the given cluster size and is ready. */
@@ -255,16 +246,10 @@ export async function stopNode(n: number, how: "clean" | "kill" = "clean"): Prom
   } else {
     process.kill(pid, "SIGTERM");
   }
-  const deadline = Date.now() + 60_000;
-  while (Date.now() < deadline) {
-    try {
-      process.kill(pid, 0);
-    } catch {
-      // A killed server leaves its socket file behind; the next start replaces it.
-      if (how === "kill") rmSync(node.socket, { force: true });
-      return true;
-    }
-    await new Promise((r) => setTimeout(r, 100));
+  if (await waitForExit(pid, 60_000)) {
+    // A killed server leaves its socket file behind; the next start replaces it.
+    if (how === "kill") rmSync(node.socket, { force: true });
+    return true;
   }
   process.kill(pid, "SIGKILL");
   return true;

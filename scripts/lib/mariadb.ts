@@ -30,8 +30,14 @@ export function instanceFor(port: number): Instance {
   };
 }
 
-function rootConnection(instance: Instance) {
+/** A root connection over the instance's Unix socket (also used for the Galera nodes). */
+export function rootConnection(instance: { socket: string }) {
   return mariadb.createConnection({ socketPath: instance.socket, user: "root", connectTimeout: 1000 });
+}
+
+/** The last lines of a server's error log, for a message saying why it did not start. */
+export function logTail(file: string, lines = 15): string {
+  return existsSync(file) ? readFileSync(file, "utf8").split("\n").slice(-lines).join("\n") : "(no log)";
 }
 
 async function alive(instance: Instance): Promise<boolean> {
@@ -107,8 +113,7 @@ export async function startMariaDb(port: number): Promise<Instance> {
     if (child.exitCode !== null) break;
     await new Promise((r) => setTimeout(r, 100));
   }
-  const log = existsSync(instance.logFile) ? readFileSync(instance.logFile, "utf8").split("\n").slice(-15).join("\n") : "";
-  throw new Error(`MariaDB did not become ready on port ${port}. Last lines of ${instance.logFile}:\n${log}`);
+  throw new Error(`MariaDB did not become ready on port ${port}. Last lines of ${instance.logFile}:\n${logTail(instance.logFile)}`);
 }
 
 export async function stopMariaDb(port: number): Promise<boolean> {

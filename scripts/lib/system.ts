@@ -38,3 +38,17 @@ export function ensureDebianPackages(packages: string[], why: string): void {
   }
   run(["apt-get", "install", "-y", "-qq", "--no-install-recommends", ...packages]);
 }
+
+/** Waits until process `pid` has exited; false when it is still running after `timeoutMs`. */
+export async function waitForExit(pid: number, timeoutMs: number): Promise<boolean> {
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    try {
+      process.kill(pid, 0);
+    } catch {
+      return true;
+    }
+    await new Promise((r) => setTimeout(r, 50));
+  }
+  return false;
+}

@@ -12,6 +12,7 @@ import { instanceFor, prepareDatabase, startMariaDb, stopMariaDb } from "../../s
 import { migrateUp } from "@/lib/server/migrate";
 import { Client } from "./http";
 import { testEnv } from "../setup/test-env";
+import { waitForExit } from "../../scripts/lib/system";
 
 const root = join(import.meta.dirname, "..", "..");
 export const slot = Number(process.env.TEST_SLOT || 0);
@@ -146,15 +147,7 @@ export class SeparateStack {
     const instance = instanceFor(this.dbPort);
     const pid = Number(readFileSync(instance.pidFile, "utf8").trim());
     process.kill(pid, "SIGKILL");
-    const deadline = Date.now() + 15_000;
-    while (Date.now() < deadline) {
-      try {
-        process.kill(pid, 0);
-      } catch {
-        break;
-      }
-      await new Promise((r) => setTimeout(r, 50));
-    }
+    await waitForExit(pid, 15_000);
     // The socket file stays behind after a kill; startMariaDb's liveness probe then fails to connect and starts a new server.
     if (pauseMs) await new Promise((r) => setTimeout(r, pauseMs));
     await startMariaDb(this.dbPort);
