@@ -17,7 +17,9 @@ export function contentSecurityPolicy({ nonce, dev = false, connectExtra = [], h
   const directives: [string, string[]][] = [
     ["default-src", ["'self'"]],
     // 'strict-dynamic': scripts started by a nonce-carrying script may load further chunks.
-    ["script-src", ["'self'", `'nonce-${nonce}'`, "'strict-dynamic'", ...(dev ? ["'unsafe-eval'"] : [])]],
+    // 'wasm-unsafe-eval' lets the bench compile its WebAssembly pixel kernels (lib/imaging/wasm); it
+    // allows compiling WebAssembly only, never JavaScript from strings.
+    ["script-src", ["'self'", `'nonce-${nonce}'`, "'strict-dynamic'", "'wasm-unsafe-eval'", ...(dev ? ["'unsafe-eval'"] : [])]],
     // React style attributes (colour swatches, canvas transforms) are inline styles.
     ["style-src", ["'self'", "'unsafe-inline'"]],
     ["img-src", ["'self'", "blob:", "data:"]],

@@ -17,6 +17,7 @@ import { simulateCvd, type CvdKind } from "../lib/imaging/cvd";
 import { buildLut, buildRgbaLut, packRgba } from "../lib/imaging/lut";
 import { percentiles as percentilesFromHistogram } from "../lib/imaging/percentile";
 import { PlaneCache } from "../lib/imaging/plane-cache";
+import { wasmKernelsAvailable } from "../lib/imaging/wasm/kernels";
 import { lineProfile, regionMask, regionStats, statsInElectrons, traceInElectrons, tracePoint, type AreaShape, type DetectorScale, type RegionShape, type RegionStats } from "../lib/imaging/regions";
 import { compactHistogram, type CompactHistogram } from "../lib/imaging/summary";
 import { readAheadSource, type ByteSource } from "../lib/tiff/byte-source";
@@ -128,6 +129,8 @@ export interface BenchRender {
   /** Row-major RGBA, 4 bytes per pixel; its buffer is transferred to the main thread. */
   rgba: Uint8ClampedArray;
   channels: ChannelPlaneStats[];
+  /** Where the channels were composited: the WebAssembly kernels, or the JavaScript loops without them. */
+  kernels: "webassembly" | "javascript";
 }
 
 export interface RawValue {
@@ -717,6 +720,8 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
           width: s.args.width,
           height: s.args.height,
           rgba,
+          // Corrected values are floating point: they are mapped and combined in JavaScript.
+          kernels: "javascript",
           channels: refs.map((ref, i) => ({
             ...corrected[i].stats,
             c: ref.c,
@@ -746,6 +751,7 @@ export function createBenchApi(options: BenchApiOptions = {}): BenchApi {
         width: s.args.width,
         height: s.args.height,
         rgba,
+        kernels: wasmKernelsAvailable() ? "webassembly" : "javascript",
         channels: refs.map((ref, i) => channelStats(s, ref, loaded[i])),
       };
     },

@@ -874,7 +874,11 @@ export function Bench({ labId, datasetId, link }: { labId: number; datasetId: nu
         <span className="ml-auto text-graphite-300" role="status">
           {viewSaved === "saved" ? "View saved" : viewSaved === "failed" ? "View not saved (will retry)" : ""}
         </span>
-        {firstDrawMs !== null && <span className="num text-graphite-300">first plane drawn in {firstDrawMs} ms</span>}
+        {firstDrawMs !== null && (
+          <span className="num text-graphite-300" data-kernels={rendered?.kernels}>
+            first plane drawn in {firstDrawMs} ms
+          </span>
+        )}
       </div>
       {help && <HelpOverlay onClose={() => setHelp(false)} />}
       {figure && channels && (

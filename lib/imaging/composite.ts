@@ -4,6 +4,7 @@
 // the same memory: packed words with alpha 255 exceed 2³¹, and int32 values stay unboxed in V8.
 
 import { LITTLE_ENDIAN } from "./lut";
+import { wasmComposite } from "./wasm/kernels";
 
 export interface CompositeChannel {
   pixels: Uint16Array | Uint8Array;
@@ -64,13 +65,15 @@ function check(channels: readonly CompositeChannel[], out: Uint32Array): number 
 
 /**
  * Additive composite, clamped per colour component at 255: for each pixel the sum of every
- * channel's mapped colour (alpha likewise, so opaque tables give alpha 255). 2–4 channels of 16-bit
+ * channel's mapped colour (alpha likewise, so opaque tables give alpha 255). 1–4 channels run in
+ * the WebAssembly kernels (wasm/kernels.ts) where they can; without them, 2–4 channels of 16-bit
  * pixels take the spread-field path below; other cases (8-bit pixels, 5+ channels, planes not on a
  * 4-byte boundary, translucent tables, big-endian hosts) one pass for 1–3 channels (unrolled) or
  * one channel at a time, with the packed saturating add. Both give the same words.
  */
 export function compositeAdd(channels: readonly CompositeChannel[], out: Uint32Array): Uint32Array {
   const n = check(channels, out);
+  if (wasmComposite("add", channels, out)) return out;
   if (compositeAddSpread(channels, out, n)) return out;
   const o = i32(out);
   const p0 = channels[0].pixels;
@@ -286,6 +289,7 @@ function add4(o: Int32Array, w0: Int32Array, w1: Int32Array, w2: Int32Array, w3:
 /** Maximum composite: each colour component is the largest over the channels (alpha stays 255). */
 export function compositeMax(channels: readonly CompositeChannel[], out: Uint32Array): Uint32Array {
   const n = check(channels, out);
+  if (wasmComposite("max", channels, out)) return out;
   const o = i32(out);
   const p0 = channels[0].pixels;
   const l0 = i32(channels[0].rgbaLut);

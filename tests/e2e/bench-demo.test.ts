@@ -97,6 +97,8 @@ describe("the bench on a demo dataset", () => {
       }
     });
     expect(where).toBe("worker");
+    // …and composites through the WebAssembly kernels, which the page's CSP lets it compile.
+    expect(await page.getByText(/first plane drawn in \d+ ms/).getAttribute("data-kernels")).toBe("webassembly");
 
     const at = brightest(planes[0][0][0]);
     const box = (await canvas.boundingBox())!;

@@ -9,7 +9,8 @@ const parse = (csp: string) => new Map(csp.split(";").map((d) => d.trim().split(
 describe("contentSecurityPolicy", () => {
   it("allows scripts only with this request's nonce (and what they load), never inline or eval in production", () => {
     const csp = parse(contentSecurityPolicy({ nonce: "abc123" }));
-    expect(csp.get("script-src")).toEqual(["'self'", "'nonce-abc123'", "'strict-dynamic'"]);
+    expect(csp.get("script-src")).toEqual(["'self'", "'nonce-abc123'", "'strict-dynamic'", "'wasm-unsafe-eval'"]);
+    expect(csp.get("script-src")).not.toContain("'unsafe-eval'");
     expect(csp.get("script-src")).not.toContain("'unsafe-inline'");
     expect(csp.get("object-src")).toEqual(["'none'"]);
     expect(csp.get("frame-ancestors")).toEqual(["'none'"]);
