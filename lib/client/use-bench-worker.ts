@@ -60,12 +60,22 @@ export class BenchWorkerClient {
   private lastRender: AbortController | null = null;
   private lastPrefetch: AbortController | null = null;
   private lastCorrection: AbortController | null = null;
+  /**
+   * What the running worker was told to hold: the open dataset, the lab's colour tables and the
+   * flat/dark correction. A worker started again after `terminate()` (unmount and remount, a
+   * development hot reload) is told the same before any other call, so the bench's "opened" state
+   * still holds for it.
+   */
+  private held: { open: BenchOpenArgs | null; tables: Map<string, CustomTableRef>; correction: CorrectionArgs | null } = { open: null, tables: new Map(), correction: null };
+  /** The replay of `held` into a restarted worker; calls wait for it. */
+  private restoring: Promise<unknown> | null = null;
 
   constructor(private readonly create: () => BenchEndpoint = startWorker) {}
 
   private connect(): Remote<WorkerApi> {
     if (this.remote) return this.remote;
     const endpoint = this.create();
+    const restarted = this.connection > 0;
     this.connection++;
     // A worker script that fails to load or throws at top level answers nothing: fail the waiters.
     endpoint.addEventListener("error", ((event: Event) => {
@@ -74,8 +84,19 @@ export class BenchWorkerClient {
       this.failAll(new BenchWorkerError(`The bench worker stopped: ${message}`));
     }) as EventListener);
     this.endpoint = endpoint;
-    this.remote = wrap<WorkerApi>(endpoint);
-    return this.remote;
+    const remote = wrap<WorkerApi>(endpoint);
+    this.remote = remote;
+    this.restoring = restarted ? this.restore(remote) : null;
+    return remote;
+  }
+
+  /** Tells a restarted worker what the one before held (see `held`). */
+  private async restore(remote: Remote<WorkerApi>): Promise<void> {
+    const { open, tables, correction } = this.held;
+    if (tables.size > 0) await remote.registerTables([...tables.values()]);
+    if (!open) return;
+    await remote.open(open, ++this.nextId);
+    if (correction) await remote.setCorrection(correction, ++this.nextId);
   }
 
   private failAll(error: Error): void {
@@ -92,6 +113,7 @@ export class BenchWorkerClient {
     this.endpoint?.terminate?.();
     this.remote = null;
     this.endpoint = null;
+    this.restoring = null;
   }
 
   private call<T>(what: string, signal: AbortSignal | undefined, run: (remote: Remote<WorkerApi>, id: number) => Promise<T>): Promise<T> {
@@ -117,7 +139,8 @@ export class BenchWorkerClient {
         reject(abortReason(signal as AbortSignal));
       };
       signal?.addEventListener("abort", onAbort, { once: true });
-      run(remote, id).then(
+      const restored = this.restoring ?? Promise.resolve();
+      restored.then(() => run(remote, id)).then(
         (value) => {
           settle();
           resolve(value);
@@ -135,7 +158,13 @@ export class BenchWorkerClient {
     this.lastRender?.abort();
     this.lastPrefetch?.abort();
     this.lastCorrection?.abort();
-    return this.call(`opening dataset ${args.datasetId}`, signal, (r, id) => r.open(args, id));
+    this.held.open = null;
+    this.held.correction = null;
+    return this.call(`opening dataset ${args.datasetId}`, signal, async (r, id) => {
+      const opened = await r.open(args, id);
+      this.held.open = args;
+      return opened;
+    });
   }
 
   /**
@@ -217,7 +246,11 @@ export class BenchWorkerClient {
     this.lastCorrection = own;
     const combined = signal ? AbortSignal.any([signal, own.signal]) : own.signal;
     const what = args ? "loading the flat-field and dark frames" : "turning flat/dark correction off";
-    const result = this.call(what, combined, (r, id) => r.setCorrection(args, id));
+    const result = this.call(what, combined, async (r, id) => {
+      const info = await r.setCorrection(args, id);
+      this.held.correction = args;
+      return info;
+    });
     previous?.abort(new DOMException("Superseded by a newer correction", "AbortError"));
     return result;
   }
@@ -237,12 +270,18 @@ export class BenchWorkerClient {
   }
 
   close(): Promise<void> {
+    this.held.open = null;
+    this.held.correction = null;
     return this.call("closing the dataset", undefined, (r) => r.close());
   }
 
   /** Makes a lab's own colour tables ("custom-<id>") known to the worker; a known id is replaced. */
   registerTables(tables: CustomTableRef[]): Promise<number> {
-    return this.call("registering custom colour tables", undefined, async (r) => r.registerTables(tables));
+    return this.call("registering custom colour tables", undefined, async (r) => {
+      const count = await r.registerTables(tables);
+      for (const t of tables) this.held.tables.set(t.id, t);
+      return count;
+    });
   }
 }
 

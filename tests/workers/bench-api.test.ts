@@ -396,6 +396,26 @@ describe("bench worker client over comlink", () => {
     await expect(failed).rejects.toThrow("while rendering z 3, t 12: The dataset has no plane for channel 0 at z 3, t 12");
   });
 
+  test("a worker started again after terminate() is given the open dataset before anything else", async () => {
+    // As after a remount or a development hot reload: the page still thinks the dataset is open.
+    const s = await stack(2, 1, 1);
+    const { client } = connect(s.bytes);
+    const view = { z: 0, t: 0, channels: [channel(0, 0, 3000, [255, 0, 0]), channel(1, 100, 2000, [0, 0, 255])], composite: "add" as const };
+    await client.open(openArgs(s));
+    const before = await client.render(view);
+    client.terminate();
+    const after = await client.render(view);
+    expect(after.rgba).toEqual(before.rgba);
+    expect(await client.readValues(0, 0, 1, 0)).toEqual([
+      { c: 0, value: CEILING },
+      { c: 1, value: CEILING },
+    ]);
+    // A closed dataset is not opened again.
+    await client.close();
+    client.terminate();
+    await expect(client.render(view)).rejects.toThrow("No dataset is open on the bench");
+  });
+
   test("terminating rejects calls still waiting with AbortError", async () => {
     const s = await stack(1, 1, 1);
     const { client, src } = connect(s.bytes);
