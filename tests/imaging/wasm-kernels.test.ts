@@ -50,23 +50,16 @@ describe("wasmComposite", () => {
   // 0–3 pixels past the last whole step of four.
   const lengths = [1, 3, 4, 7, 32767, 32768, 32769, 2 * 32768 + 5, 100_003];
 
-  test.each([1, 2, 3, 4])("adds %i channels per byte with saturation, at every chunk boundary", (count) => {
-    const tables = Array.from({ length: count }, randomTable);
-    for (const n of lengths) {
-      const chans = tables.map((rgbaLut) => ({ pixels: randomPlane(n), rgbaLut }));
-      const out = new Uint32Array(n);
-      expect(wasmComposite("add", chans, out)).toBe(true);
-      expect([count, n, firstDifference(out, reference("add", chans, n))]).toEqual([count, n, -1]);
-    }
-  });
+  const cases = (["add", "max"] as const).flatMap((op) => [1, 2, 3, 4].map((count) => [op, count] as const));
 
-  test.each([1, 2, 3, 4])("takes the per-byte maximum of %i channels, at every chunk boundary", (count) => {
+  // "add": per-byte saturating sum; "max": per-byte maximum.
+  test.each(cases)("%s over %i channels, at every chunk boundary", (op, count) => {
     const tables = Array.from({ length: count }, randomTable);
     for (const n of lengths) {
       const chans = tables.map((rgbaLut) => ({ pixels: randomPlane(n), rgbaLut }));
       const out = new Uint32Array(n);
-      expect(wasmComposite("max", chans, out)).toBe(true);
-      expect([count, n, firstDifference(out, reference("max", chans, n))]).toEqual([count, n, -1]);
+      expect(wasmComposite(op, chans, out)).toBe(true);
+      expect([count, n, firstDifference(out, reference(op, chans, n))]).toEqual([count, n, -1]);
     }
   });
 
