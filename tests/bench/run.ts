@@ -21,6 +21,7 @@ import { scanPlanes, type ScanOptions } from "@/lib/tiff/scan";
 import { fileSource } from "@/lib/tiff/file-source";
 import { readTiffHeader, readTiffStructure } from "@/lib/tiff/structure";
 import { createTiffWriter, type TiffWriteOptions } from "@/lib/tiff/writer";
+import { decodeBenches } from "./decode";
 import { pixelBenches } from "./pixels";
 import { regionBenches } from "./regions";
 
@@ -356,6 +357,7 @@ async function main(): Promise<void> {
     await statsVsPlainRead(dir, planes);
     await bytesToOpenLastPlane(dir);
     percentilesVsSort(planes[0]);
+    rows.push(...(await decodeBenches(dir, planes[0], SIDE)));
     rows.push(...(await pixelBenches()));
     rows.push(...(await regionBenches()));
   } finally {
