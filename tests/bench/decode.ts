@@ -17,18 +17,9 @@ import { decodePlane } from "@/lib/tiff/decode";
 import { readTiffStructure } from "@/lib/tiff/structure";
 import { writeTiff } from "@/lib/tiff/writer";
 import { ensureDebianPackages, findExecutable } from "@/scripts/lib/system";
-
-interface Row {
-  bench: string;
-  baseline: string;
-  measured: string;
-  ratio: number;
-  target: string;
-  met: boolean;
-}
+import { ms as f, type Row } from "./row";
 
 const now = () => performance.now();
-const f = (ms: number) => (ms < 10 ? ms.toFixed(2) : ms.toFixed(1)) + " ms";
 
 async function medianMs(fn: () => unknown, runs: number): Promise<number> {
   await fn();

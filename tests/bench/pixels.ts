@@ -13,15 +13,7 @@ import { buildLut, buildRgbaLut, mapChannel, packRgba } from "@/lib/imaging/lut"
 import { percentiles, STANDARD_PERCENTILES } from "@/lib/imaging/percentile";
 import { createRandom } from "@/lib/imaging/random";
 import { DEMO_CAMERA, DEMO_CHANNELS, exposeCamera, makeScene, renderSignal } from "@/lib/imaging/synthetic";
-
-interface Row {
-  bench: string;
-  baseline: string;
-  measured: string;
-  ratio: number;
-  target: string;
-  met: boolean;
-}
+import { ms as f, type Row } from "./row";
 
 const SIDE = 2048;
 const N = SIDE * SIDE;
@@ -71,7 +63,6 @@ const use = (x: number) => {
   sink = (sink + x) | 0;
 };
 
-const f = (ms: number) => (ms < 10 ? ms.toFixed(2) : ms.toFixed(1)) + " ms";
 
 /** Three camera-like 12-bit channels of one 2048² plane (invented cells, lib/imaging/synthetic.ts). */
 function samplePlanes(): Uint16Array[] {

@@ -10,20 +10,11 @@ import { decodePlane } from "@/lib/tiff/decode";
 import { readTiffStructure } from "@/lib/tiff/structure";
 import { writeTiff } from "@/lib/tiff/writer";
 import { createBenchApi } from "@/workers/bench-api";
-
-interface Row {
-  bench: string;
-  baseline: string;
-  measured: string;
-  ratio: number;
-  target: string;
-  met: boolean;
-}
+import { ms as f, type Row } from "./row";
 
 const SIDE = 512;
 const PLANES = 500;
 const now = () => performance.now();
-const f = (ms: number) => (ms < 10 ? ms.toFixed(2) : ms.toFixed(1)) + " ms";
 
 export async function regionBenches(): Promise<Row[]> {
   // Eight distinct noisy 12-bit planes, repeated: the decoder cannot tell, and memory stays small.

@@ -24,6 +24,7 @@ import { createTiffWriter, type TiffWriteOptions } from "@/lib/tiff/writer";
 import { decodeBenches } from "./decode";
 import { pixelBenches } from "./pixels";
 import { regionBenches } from "./regions";
+import type { Row } from "./row";
 
 const SIDE = 2048;
 const PLANE_BYTES = SIDE * SIDE * 2;
@@ -33,14 +34,6 @@ if (!(gib > 0)) throw new Error(`BENCH_GIB must be a positive number of GiB, got
 
 const now = () => performance.now();
 
-interface Row {
-  bench: string;
-  baseline: string;
-  measured: string;
-  ratio: number;
-  target: string;
-  met: boolean;
-}
 const rows: Row[] = [];
 
 /** A few distinct camera-like 2048 × 2048 planes (invented cells, lib/imaging/synthetic.ts), reused cyclically. */
