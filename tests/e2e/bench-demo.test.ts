@@ -8,6 +8,7 @@
 // (no transferControlToOffscreen) shows the very same pixels.
 import { quantileSorted } from "d3-array";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Locator, Page } from "playwright-core";
 import { createRandom } from "@/lib/imaging/random";
 import { DEMO_CAMERA, DEMO_CHANNELS, exposeCamera, makeScene, renderSignal } from "@/lib/imaging/synthetic";
 import { demoOmeXml } from "@/lib/server/demo/generate";
@@ -80,6 +81,22 @@ afterAll(async () => {
 
 const nuclear = DEMO_CHANNELS[0].name;
 
+/**
+ * Points at the brightest nuclear pixel of time point t (z 0) and expects the readout to show its
+ * position and the generated raw value of every channel there.
+ */
+async function expectReadoutAtBrightest(page: Page, canvas: Locator, t: number): Promise<void> {
+  const at = brightest(planes[t][0][0]);
+  const box = (await canvas.boundingBox())!;
+  const scale = box.width / W;
+  await page.mouse.move(box.x + (at.x + 0.5) * scale, box.y + (at.y + 0.5) * scale);
+  const readout = page.getByLabel("Readout");
+  await readout.getByText(`x ${at.x} y ${at.y}`).waitFor();
+  for (let c = 0; c < C; c++) {
+    await expect.poll(() => readout.textContent()).toContain(`${DEMO_CHANNELS[c].name} ${planes[t][c][0][at.y * W + at.x]} DN`);
+  }
+}
+
 describe("the bench on a demo dataset", () => {
   it("draws the plane in the worker and reads the generated raw values at a known pixel", async () => {
     const page = person.page;
@@ -100,15 +117,7 @@ describe("the bench on a demo dataset", () => {
     // …and composites through the WebAssembly kernels, which the page's CSP lets it compile.
     expect(await page.getByText(/first plane drawn in \d+ ms/).getAttribute("data-kernels")).toBe("webassembly");
 
-    const at = brightest(planes[0][0][0]);
-    const box = (await canvas.boundingBox())!;
-    const scale = box.width / W;
-    await page.mouse.move(box.x + (at.x + 0.5) * scale, box.y + (at.y + 0.5) * scale);
-    const readout = page.getByLabel("Readout");
-    await readout.getByText(`x ${at.x} y ${at.y}`).waitFor();
-    for (let c = 0; c < C; c++) {
-      await expect.poll(() => readout.textContent()).toContain(`${DEMO_CHANNELS[c].name} ${planes[0][c][0][at.y * W + at.x]} DN`);
-    }
+    await expectReadoutAtBrightest(page, canvas, 0);
     await screenshot(page, "bench-demo-01-readout");
   });
 
@@ -153,17 +162,9 @@ describe("the bench on a demo dataset", () => {
     await expect.poll(() => page.getByLabel("Time label").textContent(), { timeout: 15_000 }).toMatch(new RegExp(`^${T}/${T}`));
     await page.getByRole("button", { name: "▶ Play" }).waitFor();
     expect(Number(await canvas.getAttribute("data-frames")) - framesBefore).toBeGreaterThanOrEqual(T - 1);
-    const at = brightest(planes[T - 1][0][0]);
     // Clicking Play scrolled the bottom bar into view; point from the top of the page.
     await page.evaluate(() => window.scrollTo(0, 0));
-    const box = (await canvas.boundingBox())!;
-    const scale = box.width / W;
-    await page.mouse.move(box.x + (at.x + 0.5) * scale, box.y + (at.y + 0.5) * scale);
-    const readout = page.getByLabel("Readout");
-    await readout.getByText(`x ${at.x} y ${at.y}`).waitFor();
-    for (let c = 0; c < C; c++) {
-      await expect.poll(() => readout.textContent()).toContain(`${DEMO_CHANNELS[c].name} ${planes[T - 1][c][0][at.y * W + at.x]} DN`);
-    }
+    await expectReadoutAtBrightest(page, canvas, T - 1);
     await expect.poll(() => new URL(page.url()).searchParams.get("t")).toBe(String(T - 1));
     await screenshot(page, "bench-demo-02-after-play");
   });
